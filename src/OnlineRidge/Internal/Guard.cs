@@ -1,0 +1,94 @@
+using System;
+using System.Diagnostics.CodeAnalysis;
+using System.Globalization;
+
+namespace OnlineRidge.Internal
+{
+    /// <summary>Precondition checks that throw through small non-inlined helpers, so hot methods stay small.</summary>
+    internal static class Guard
+    {
+        [DoesNotReturn]
+        public static void ThrowArgument(string paramName, string message) =>
+            throw new ArgumentException(message, paramName);
+
+        [DoesNotReturn]
+        public static void ThrowOutOfRange(string paramName, double value, string rule) =>
+            throw new ArgumentOutOfRangeException(paramName, value, string.Format(CultureInfo.InvariantCulture, "{0} = {1:R} is invalid: {2}.", paramName, value, rule));
+
+        [DoesNotReturn]
+        public static void ThrowNonFinite(string paramName, int index, double value) =>
+            throw new ArgumentException(string.Format(CultureInfo.InvariantCulture, "{0}[{1}] = {2:R} is not a finite number.", paramName, index, value), paramName);
+
+        [DoesNotReturn]
+        public static void ThrowLength(string paramName, int actual, int expected) =>
+            throw new ArgumentException(string.Format(CultureInfo.InvariantCulture, "{0} has length {1}; expected {2}.", paramName, actual, expected), paramName);
+
+        [DoesNotReturn]
+        public static void ThrowBreakdown(BreakdownInfo info) => throw new RidgeBreakdownException(info);
+
+        /// <summary>Rejects NaN, infinities and negative values.</summary>
+        public static void NonNegativeFinite(double value, string paramName)
+        {
+            if (!(value >= 0.0) || double.IsInfinity(value))
+            {
+                ThrowOutOfRange(paramName, value, "must be a finite number >= 0");
+            }
+        }
+
+        /// <summary>Rejects a forgetting factor outside (0, 1] (and NaN).</summary>
+        public static void ForgettingFactor(double beta, string paramName)
+        {
+            if (!(beta > 0.0 && beta <= 1.0))
+            {
+                ThrowOutOfRange(paramName, beta, "a forgetting factor must lie in (0, 1]");
+            }
+        }
+
+        /// <summary>Rejects any non-finite entry.</summary>
+        public static void AllFinite(ReadOnlySpan<double> values, string paramName)
+        {
+            for (int i = 0; i < values.Length; i++)
+            {
+                if (!IsFinite(values[i]))
+                {
+                    ThrowNonFinite(paramName, i, values[i]);
+                }
+            }
+        }
+
+        /// <summary>Rejects a sample weight that is negative, NaN or infinite.</summary>
+        public static void Weight(double w, string paramName)
+        {
+            if (!(w >= 0.0) || double.IsInfinity(w))
+            {
+                ThrowOutOfRange(paramName, w, "a sample weight must be a finite number >= 0");
+            }
+        }
+
+        public static void NotNull([NotNull] object? value, string paramName)
+        {
+            if (value is null)
+            {
+                ThrowNull(paramName);
+            }
+        }
+
+        [DoesNotReturn]
+        private static void ThrowNull(string paramName) => throw new ArgumentNullException(paramName);
+
+        public static void Length(int actual, int expected, string paramName)
+        {
+            if (actual != expected)
+            {
+                ThrowLength(paramName, actual, expected);
+            }
+        }
+
+        public static bool IsFinite(double value) =>
+#if NET
+            double.IsFinite(value);
+#else
+            !double.IsNaN(value) && !double.IsInfinity(value);
+#endif
+    }
+}
