@@ -29,6 +29,20 @@ namespace OnlineRidge
         /// <summary>Default of <see cref="CholeskyConditionLimit"/>: 10¹⁰, so an accepted Cholesky solution keeps roughly 16 − 10 − log₁₀(10p) ≥ 4 digits.</summary>
         public const double DefaultCholeskyConditionLimit = 1e10;
 
+        /// <summary>A copy with another penalty (all other settings equal).</summary>
+        internal RidgeSettings WithPenalty(double newPenalty) => new()
+        {
+            Penalty = newPenalty,
+            ForgettingFactor = ForgettingFactor,
+            FitIntercept = FitIntercept,
+            Standardize = Standardize,
+            Prior = Prior,
+            Solver = Solver,
+            RankTolerance = RankTolerance,
+            RefinementSteps = RefinementSteps,
+            CholeskyConditionLimit = CholeskyConditionLimit,
+        };
+
         /// <summary>The settings for ordinary least squares with an intercept (all defaults).</summary>
         public static RidgeSettings Default { get; } = new();
 
