@@ -25,6 +25,7 @@ namespace OnlineRidge
         private readonly double choleskyConditionLimit = DefaultCholeskyConditionLimit;
         private readonly RidgeSolver solver = RidgeSolver.Auto;
         private readonly int refinementSteps = 3;
+        private readonly CovarianceModel covariance = CovarianceModel.Sandwich;
 
         /// <summary>Default of <see cref="CholeskyConditionLimit"/>: 10¹⁰, so an accepted Cholesky solution keeps roughly 16 − 10 − log₁₀(10p) ≥ 4 digits.</summary>
         public const double DefaultCholeskyConditionLimit = 1e10;
@@ -41,6 +42,7 @@ namespace OnlineRidge
             RankTolerance = RankTolerance,
             RefinementSteps = RefinementSteps,
             CholeskyConditionLimit = CholeskyConditionLimit,
+            Covariance = Covariance,
         };
 
         /// <summary>The settings for ordinary least squares with an intercept (all defaults).</summary>
@@ -147,6 +149,22 @@ namespace OnlineRidge
                 }
 
                 rankTolerance = value;
+            }
+        }
+
+        /// <summary>How the parameter covariance is computed (default <see cref="CovarianceModel.Sandwich"/>, exact; MATH.md §6.3).</summary>
+        /// <exception cref="ArgumentOutOfRangeException">Not a member of the enumeration.</exception>
+        public CovarianceModel Covariance
+        {
+            get => covariance;
+            init
+            {
+                if (value < CovarianceModel.Sandwich || value > CovarianceModel.InverseHessian)
+                {
+                    Guard.ThrowOutOfRange(nameof(Covariance), (double)value, "not a CovarianceModel member");
+                }
+
+                covariance = value;
             }
         }
 

@@ -198,79 +198,9 @@ namespace OnlineRidge
                 nu = pr.DiscountedCount - (2.0 * t1) + t2;
             }
 
-            double[]? se = null;
-            double seIntercept = double.NaN;
-            if (lambda == 0.0 && nu > 0.0)
-            {
-                double sigma2 = rss / nu;
-                se = new double[p];
-                var v = new double[q];
-                for (int k = 0; k < q; k++)
-                {
-                    v[k] = pr.MeanX[pr.Active[k]] / pr.Scale[pr.Active[k]];
-                }
-
-                if (cFull is null)
-                {
-                    for (int k = 0; k < q; k++)
-                    {
-                        double s2 = 0.0;
-                        for (int l = 0; l < q; l++)
-                        {
-                            double e = f[(k * q) + l];
-                            s2 += e * e;
-                        }
-
-                        int j = pr.Active[k];
-                        se[j] = Math.Sqrt(sigma2 * s2) / pr.Scale[j];
-                    }
-
-                    if (pr.Intercept)
-                    {
-                        // Var(b0)/σ² = 1/W + vᵀ Hinv v = 1/W + ‖Fᵀv‖².
-                        double quad = 0.0;
-                        for (int l = 0; l < q; l++)
-                        {
-                            double s = 0.0;
-                            for (int k = 0; k < q; k++)
-                            {
-                                s += f[(k * q) + l] * v[k];
-                            }
-
-                            quad += s * s;
-                        }
-
-                        seIntercept = Math.Sqrt(sigma2 * ((1.0 / pr.WeightSum) + quad));
-                    }
-                }
-                else
-                {
-                    int m = q + ic;
-                    for (int k = 0; k < q; k++)
-                    {
-                        int j = pr.Active[k];
-                        se[j] = Math.Sqrt(sigma2 * Math.Max(0.0, cFull[((k + ic) * m) + k + ic])) / pr.Scale[j];
-                    }
-
-                    if (pr.Intercept)
-                    {
-                        double var = cFull[0];
-                        for (int k = 0; k < q; k++)
-                        {
-                            var -= 2.0 * v[k] * cFull[k + 1];
-                            for (int l = 0; l < q; l++)
-                            {
-                                var += v[k] * v[l] * cFull[((k + 1) * m) + l + 1];
-                            }
-                        }
-
-                        seIntercept = Math.Sqrt(sigma2 * Math.Max(0.0, var));
-                    }
-                }
-            }
-
+            double[] unitCovariance = BatchCovariance.Compute(pr, f, cFull, settings.Covariance);
             fit = new RidgeFit(
-                theta, intercept, pr.Intercept, se, seIntercept, rss, nu, rSquared, df, cond, used, rank,
+                theta, intercept, pr.Intercept, unitCovariance, rss, nu, rSquared, df, cond, used, rank,
                 pr.Excluded, pr.Rows, pr.WeightSum, pr.DiscountedCount, lambda, objective);
             return true;
         }
