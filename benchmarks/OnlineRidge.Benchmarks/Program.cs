@@ -9,7 +9,7 @@ using BenchmarkDotNet.Toolchains.InProcess.Emit;
 namespace OnlineRidge.Benchmarks
 {
     /// <summary>
-    /// Entry point. <c>--smoke</c> runs every benchmark once on a small problem
+    /// Entry point. <c>accuracy</c> prints the NIST StRD digits table; <c>--smoke</c> runs every benchmark once on a small problem
     /// (a check that they run, for CI, not a measurement); anything else goes to BenchmarkDotNet's switcher
     /// (e.g. <c>--filter *BatchFit*</c>, <c>--list flat</c>).
     /// </summary>
@@ -17,6 +17,11 @@ namespace OnlineRidge.Benchmarks
     {
         private static int Main(string[] args)
         {
+            if (args.Length > 0 && string.Equals(args[0], "accuracy", StringComparison.OrdinalIgnoreCase))
+            {
+                return AccuracyReport.Run(args.Skip(1).ToArray());
+            }
+
             if (args.Contains("--smoke", StringComparer.OrdinalIgnoreCase))
             {
                 return RunSmoke();
