@@ -18,6 +18,7 @@ namespace OnlineRidge.Benchmarks
         private const int TimingRows = 20_000;
         private const int TimingColumns = 16;
         private const int TimingRuns = 21;
+        private const int WarmupRuns = 40;
         private const int TimingSeed = 4_711;
 
         private static readonly RidgeSolver[] Solvers = { RidgeSolver.Cholesky, RidgeSolver.Qr, RidgeSolver.Svd, RidgeSolver.Auto };
@@ -102,37 +103,50 @@ namespace OnlineRidge.Benchmarks
             var inv = CultureInfo.InvariantCulture;
             var problem = RandomProblem.Create(TimingRows, TimingColumns, TimingSeed);
             Console.WriteLine(string.Create(inv,
-                $"Median fit time on a random problem, n = {TimingRows}, p = {TimingColumns}, penalty 1, standardized, intercept ({TimingRuns} runs after warm-up, Stopwatch;"));
+                $"Median fit time on a random problem, n = {TimingRows}, p = {TimingColumns}, penalty 1, standardized, intercept ({TimingRuns} runs each, interleaved, after {WarmupRuns} warm-up runs; Stopwatch;"));
             Console.WriteLine("indicative only: for measurements run the BenchmarkDotNet suite, and compare ratios rather than absolute times).");
             Console.WriteLine();
             Console.WriteLine("| Solver | median ms | relative to Cholesky | solver used |");
             Console.WriteLine("|---|---:|---:|---|");
-            double baseline = double.NaN;
-            foreach (var solver in Solvers)
+            // Warm every solver up past the JIT's tiering first, then time them round-robin, so that neither compilation nor a
+            // neighbour's load on a shared machine falls on one solver only.
+            var settings = Solvers.Select(BatchFitBenchmarks.Settings).ToArray();
+            var used = new RidgeSolver[Solvers.Length];
+            for (int w = 0; w < WarmupRuns; w++)
             {
-                var settings = BatchFitBenchmarks.Settings(solver);
-                RidgeFit last = Fit(problem, settings);
-                for (int w = 0; w < 3; w++)
+                for (int s = 0; s < Solvers.Length; s++)
                 {
-                    last = Fit(problem, settings);
+                    used[s] = Fit(problem, settings[s]).SolverUsed;
                 }
+            }
 
-                var times = new double[TimingRuns];
-                for (int r = 0; r < TimingRuns; r++)
+            var times = new double[Solvers.Length][];
+            for (int s = 0; s < Solvers.Length; s++)
+            {
+                times[s] = new double[TimingRuns];
+            }
+
+            for (int r = 0; r < TimingRuns; r++)
+            {
+                for (int s = 0; s < Solvers.Length; s++)
                 {
                     long start = Stopwatch.GetTimestamp();
-                    last = Fit(problem, settings);
-                    times[r] = (Stopwatch.GetTimestamp() - start) * 1000.0 / Stopwatch.Frequency;
+                    _ = Fit(problem, settings[s]);
+                    times[s][r] = (Stopwatch.GetTimestamp() - start) * 1000.0 / Stopwatch.Frequency;
                 }
+            }
 
-                Array.Sort(times);
-                double median = times[TimingRuns / 2];
-                if (solver == RidgeSolver.Cholesky)
+            double baseline = double.NaN;
+            for (int s = 0; s < Solvers.Length; s++)
+            {
+                Array.Sort(times[s]);
+                double median = times[s][TimingRuns / 2];
+                if (Solvers[s] == RidgeSolver.Cholesky)
                 {
                     baseline = median;
                 }
 
-                Console.WriteLine(string.Create(inv, $"| {Name(solver)} | {median:F2} | {median / baseline:F2} | {Name(last.SolverUsed)} |"));
+                Console.WriteLine(string.Create(inv, $"| {Name(Solvers[s])} | {median:F2} | {median / baseline:F2} | {Name(used[s])} |"));
             }
         }
 
