@@ -67,7 +67,7 @@ namespace OnlineRidge
         {
             BreakdownKind.None => "no breakdown",
             BreakdownKind.NotPositiveDefinite => FormattableString.Invariant($"matrix not numerically positive definite: pivot {PivotIndex} = {PivotValue:R}"),
-            BreakdownKind.IllConditioned => FormattableString.Invariant($"condition estimate {ConditionEstimate:E3} exceeds the solver's limit; use the QR or SVD solver, a penalty, or standardization"),
+            BreakdownKind.IllConditioned => FormattableString.Invariant($"condition estimate {ConditionEstimate:E3} (of the Gram matrix plus penalty) exceeds the solver's limit; use the QR or SVD solver, or a penalty"),
             BreakdownKind.RankDeficient => FormattableString.Invariant($"design numerically rank deficient at column {PivotIndex} (condition estimate {ConditionEstimate:E3}); use a penalty or the SVD solver"),
             BreakdownKind.NonFinite => FormattableString.Invariant($"non-finite intermediate result (overflow) at index {PivotIndex}"),
             BreakdownKind.LostDefiniteness => FormattableString.Invariant($"recursive update lost positive definiteness: value {PivotValue:R} at index {PivotIndex}"),

@@ -173,7 +173,8 @@ namespace OnlineRidge
         /// double-double arithmetic on the raw data) applied after any solver; default 3, 0 disables. Each step costs about 10·n·p flops and
         /// multiplies the error by about ε·cond(XᵀWX + λD²), so it recovers the digits lost to squaring the condition (Cholesky) and to large
         /// residuals (the κ²·η term of QR and SVD), up to the accuracy of the data themselves. Steps stop early once the correction no longer
-        /// shrinks or falls below rounding level. Must lie in [0, 10].
+        /// shrinks or falls below rounding level, and are skipped when the condition estimate of the Gram matrix plus penalty is at most 10³ (the
+        /// solve is then already accurate to a few units of rounding). Must lie in [0, 10].
         /// </summary>
         /// <exception cref="ArgumentOutOfRangeException">Outside [0, 10].</exception>
         public int RefinementSteps

@@ -15,7 +15,7 @@ namespace OnlineRidge
     /// blocked Householder QR (QR and SVD; each row read once), the penalty rows √λ·[I, Dθ₀] are appended, and the SVD solver takes the SVD of
     /// the small p×p factor (Chan 1982 R-SVD). Results are mapped back to raw units.</para>
     /// <para>Cost: O(n·p) for the passes over the data, plus n·p²/2 (Cholesky) or about 2·n·p² (QR, SVD) multiply-adds, plus O(p³).
-    /// Memory O(p² + 128·p) besides the result; the input is not copied.</para>
+    /// Memory O(n) for the effective weights plus O(p² + 128·p) besides the result; the input is not copied.</para>
     /// <para>Accuracy: see <see cref="RidgeSolver"/>. On the NIST StRD linear sets the QR and SVD solvers reach at least 9 digits (7 on Filip);
     /// the README lists the digits each solver reaches.</para>
     /// <para>Failures: caller mistakes throw <see cref="ArgumentException"/> naming the parameter and value before any work; data-dependent

@@ -10,6 +10,9 @@ namespace OnlineRidge
     {
         private const double Eps = 2.220446049250313e-16;
 
+        /// <summary>Refinement runs only when the condition estimate of H exceeds this (fewer than 3 digits can have been lost below it).</summary>
+        internal const double RefinementConditionThreshold = 1e3;
+
         /// <summary>Auto takes the Cholesky solution when the condition estimate of H is at most this.</summary>
         internal const double AutoCholeskyLimit = 1e6;
 
@@ -125,7 +128,8 @@ namespace OnlineRidge
                 }
             }
 
-            if (q > 0 && settings.RefinementSteps > 0 && AllFinite(theta) && Guard.IsFinite(intercept))
+            // Refine only where the solver can have lost digits (cond(H) > 10³); a well-conditioned solve is already accurate to rounding.
+            if (q > 0 && settings.RefinementSteps > 0 && cond * cond > RefinementConditionThreshold && AllFinite(theta) && Guard.IsFinite(intercept))
             {
                 Refine(pr, x, y, settings.RefinementSteps, f, theta, ref intercept);
                 for (int k = 0; k < q; k++)
