@@ -182,7 +182,7 @@ namespace OnlineRidge
                 nu = pr.DiscountedCount - (2.0 * t1) + t2;
             }
 
-            double[] unitCovariance = BatchCovariance.Compute(pr, f, cFull, settings.Covariance);
+            double[] unitCovariance = BatchCovariance.Compute(pr, f, sMatrix, cFull, settings.Covariance);
             fit = new RidgeFit(
                 theta, intercept, pr.Intercept, unitCovariance, rss, nu, rSquared, df, cond, used, rank,
                 pr.Excluded, pr.Rows, pr.WeightSum, pr.DiscountedCount, lambda, objective);
