@@ -27,10 +27,12 @@ namespace OnlineRidge
     /// κ = cond of the weighted design (not its square), η the relative residual, as for the batch QR solver. Forgetting is exact for
     /// β̃ = q², which differs from β by about ε·β: over a memory of 1/(1 − β) samples that is a systematic relative weight error of at most
     /// about ε/(1 − β) (MATH.md §3.2).</para>
-    /// <para><b>β &lt; 1 without excitation</b>: the information in an unexcited direction decays like β̃ᵏ. With a positive
-    /// <see cref="SquareRootSettings.Penalty"/> the solution stays bounded (the penalty does not decay); with penalty 0 the factor becomes
-    /// ill-conditioned and eventually singular, and the solve reports <see cref="BreakdownKind.RankDeficient"/> instead of bursting. The
-    /// state itself cannot wind up or lose definiteness: it only shrinks, and underflows gracefully to zero.</para>
+    /// <para><b>β &lt; 1 without excitation</b>: the information in an unexcited direction decays like β̃ᵏ; the state itself cannot wind
+    /// up or lose definiteness (it only shrinks). With a positive <see cref="SquareRootSettings.Penalty"/> the solution stays bounded and the
+    /// unexcited coefficients settle at the prior (the penalty does not decay): this is the recommended setting with β &lt; 1. With penalty 0
+    /// the unexcited coefficient carries an error of order ε‖y‖ divided by the information left, which grows like β̃^(−k/2): after long
+    /// unexcited stretches it is meaningless although finite. The rank test works in column-equilibrated coordinates (as the batch solver's),
+    /// so it reports <see cref="BreakdownKind.RankDeficient"/> only for a singular scaled system, not for this loss of accuracy.</para>
     /// <para><b>Failures</b>: caller mistakes (wrong length, NaN or ∞ in x, y or a weight, negative weight) throw
     /// <see cref="ArgumentException"/> naming the parameter before any state changes. Data-dependent breakdown throws
     /// <see cref="RidgeBreakdownException"/> and leaves the state unchanged; <see cref="TryUpdate"/> and <see cref="TrySolve"/> report it
