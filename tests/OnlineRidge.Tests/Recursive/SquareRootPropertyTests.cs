@@ -23,6 +23,7 @@ namespace OnlineRidge.Tests.Recursive
         [Fact]
         public void CoefficientsAndMinimalObjectiveEqualBatchConstantPenaltySolution()
         {
+            var tally = new Tally();
             SquareRootGenerators.Check(SquareRootGenerators.Arbitrary(), 0x5EED_0001UL, c =>
             {
                 var est = new SquareRootEstimator(c.P, c.Settings());
@@ -32,13 +33,14 @@ namespace OnlineRidge.Tests.Recursive
                 {
                     SquareRootReference.Feed(est, c, done, m);
                     done = m;
-                    CompareWithBatch(est, c, m, c.Penalty, useCachedSolve: true);
+                    tally.Add(CompareWithBatch(est, c, m, c.Penalty, useCachedSolve: true));
                 }
 
                 // Any penalty from the same state (MATH.md §3.3: the penalty is added at solve time).
                 double other = c.Penalty == 0.0 ? 1.0 : c.Penalty * 1e-3;
-                CompareWithBatch(est, c, c.N, other, useCachedSolve: false);
+                tally.Add(CompareWithBatch(est, c, c.N, other, useCachedSolve: false));
             });
+            tally.Report("regime C");
         }
 
         /// <summary>
@@ -49,6 +51,7 @@ namespace OnlineRidge.Tests.Recursive
         [Fact]
         public void DecayingPriorSolutionEqualsBatchRegimeDSolution()
         {
+            var tally = new Tally();
             SquareRootGenerators.Check(SquareRootGenerators.Arbitrary(decaying: true), 0x5EED_0002UL, c =>
             {
                 var est = new SquareRootEstimator(c.P, c.Settings());
@@ -57,9 +60,10 @@ namespace OnlineRidge.Tests.Recursive
                 {
                     SquareRootReference.Feed(est, c, done, m);
                     done = m;
-                    CompareWithBatch(est, c, m, c.Penalty, useCachedSolve: true);
+                    tally.Add(CompareWithBatch(est, c, m, c.Penalty, useCachedSolve: true));
                 }
             });
+            tally.Report("regime D");
         }
 
         /// <summary>
@@ -201,28 +205,41 @@ namespace OnlineRidge.Tests.Recursive
         [Fact]
         public void SixteenRegressorsStayWithinTheToleranceRule()
         {
-            double worst = 0.0;
-            int compared = 0;
-            int skipped = 0;
+            var tally = new Tally();
             SquareRootGenerators.Check(SquareRootGenerators.Arbitrary(minP: 16, maxP: 16), 0x5EED_0016UL, c =>
             {
                 var est = new SquareRootEstimator(c.P, c.Settings());
                 SquareRootReference.Feed(est, c, 0, c.N);
-                double ratio = CompareWithBatch(est, c, c.N, c.Penalty, useCachedSolve: true);
+                tally.Add(CompareWithBatch(est, c, c.N, c.Penalty, useCachedSolve: true));
+            });
+            tally.Report("p = 16");
+            Assert.True(tally.Compared > 0);
+        }
+
+        /// <summary>Counts compared and skipped comparisons and the largest difference/bound ratio, and prints them.</summary>
+        private sealed class Tally
+        {
+            public int Compared { get; private set; }
+
+            public int Skipped { get; private set; }
+
+            public double Worst { get; private set; }
+
+            public void Add(double ratio)
+            {
                 if (double.IsNaN(ratio))
                 {
-                    skipped++;
+                    Skipped++;
                 }
                 else
                 {
-                    compared++;
-                    worst = Math.Max(worst, ratio);
+                    Compared++;
+                    Worst = Math.Max(Worst, ratio);
                 }
-            });
+            }
 
-            TestContext.Current.TestOutputHelper?.WriteLine(FormattableString.Invariant(
-                $"p = 16: {compared} cases compared, {skipped} skipped by the rule; largest |θ_SRIF − θ_batch| / bound = {worst:E3}"));
-            Assert.True(compared > 0);
+            public void Report(string label) => TestContext.Current.TestOutputHelper?.WriteLine(FormattableString.Invariant(
+                $"{label}: {Compared} comparisons, {Skipped} skipped by the rule; largest |θ_SRIF − θ_batch| / bound = {Worst:E3}"));
         }
 
         private static void CompareSpectra(Matrix<double> factor, Matrix<double> design, int n, string label)
