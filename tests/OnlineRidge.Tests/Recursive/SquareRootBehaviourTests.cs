@@ -248,6 +248,8 @@ namespace OnlineRidge.Tests.Recursive
                 double wsum = a.Sum();
                 double level = 2.0 * 10.0 * (est.FactorOrder + Math.Sqrt(c.N)) * ToleranceRule.Eps;
                 Assert.True(Math.Abs(est.WeightSum - wsum) <= level * wsum, "W");
+                double discounted = Enumerable.Range(0, c.N).Where(i => c.W[i] > 0.0).Sum(i => Math.Pow(c.Q * c.Q, c.N - 1 - i));
+                Assert.True(Math.Abs(est.DiscountedCount - discounted) <= level * discounted, "N (MATH.md §5.1, over samples of positive weight)");
                 var scales = new double[c.P];
                 est.CopyScalesTo(scales);
                 var means = new double[c.P];
@@ -399,6 +401,57 @@ namespace OnlineRidge.Tests.Recursive
             Assert.Equal(0, updates);
             Assert.Equal(0, reads);
             Assert.Equal(0, solves);
+        }
+
+        /// <summary>
+        /// Claim (Reset docs): after <see cref="SquareRootEstimator.Reset"/> the estimator is indistinguishable from a new one — feeding the
+        /// same samples gives the same factor, counts and parameters, bit for bit.
+        /// </summary>
+        [Fact]
+        public void ResetReturnsToTheConstructedState()
+        {
+            var settings = new SquareRootSettings { ForgettingFactor = 0.95, Penalty = 0.2, Prior = new[] { 1.0, -1.0, 0.5 } };
+            var used = new SquareRootEstimator(3, settings);
+            var rng = new Random(17);
+            for (int i = 0; i < 40; i++)
+            {
+                used.Update(new[] { rng.NextDouble(), rng.NextDouble(), rng.NextDouble() }, rng.NextDouble(), 2.0 * rng.NextDouble());
+            }
+
+            used.CopyParametersTo(new double[3]);
+            used.Reset();
+            Assert.Equal(0, used.SampleCount);
+            Assert.Equal(0.0, used.WeightSum);
+            var fresh = new SquareRootEstimator(3, settings);
+            for (int i = 0; i < 25; i++)
+            {
+                double[] x = { rng.NextDouble(), rng.NextDouble(), rng.NextDouble() };
+                double y = rng.NextDouble();
+                used.Update(x, y);
+                fresh.Update(x, y);
+            }
+
+            new Snapshot(used).AssertSame(new Snapshot(fresh), "reset");
+        }
+
+        /// <summary>
+        /// Theorem (DESIGN.md failure tier 2, Merge docs): a merge whose weighted sum of squares would exceed 10³⁰⁰ is refused by TryMerge and
+        /// Merge (RidgeBreakdownException, NonFinite) and leaves both estimators unchanged.
+        /// </summary>
+        [Fact]
+        public void OverflowingMergeIsRefusedAndChangesNothing()
+        {
+            var a = new SquareRootEstimator(1, new SquareRootSettings { FitIntercept = false, Standardize = false });
+            var b = new SquareRootEstimator(1, new SquareRootSettings { FitIntercept = false, Standardize = false });
+            a.Update(new[] { 8e149 }, 1.0);
+            b.Update(new[] { 8e149 }, 2.0);
+            var beforeA = new Snapshot(a);
+            var beforeB = new Snapshot(b);
+            Assert.False(a.TryMerge(b, out BreakdownInfo bd));
+            Assert.Equal(BreakdownKind.NonFinite, bd.Kind);
+            Assert.Equal(BreakdownKind.NonFinite, Assert.Throws<RidgeBreakdownException>(() => a.Merge(b)).Info.Kind);
+            new Snapshot(a).AssertSame(beforeA, "earlier state");
+            new Snapshot(b).AssertSame(beforeB, "later state");
         }
 
         /// <summary>
