@@ -29,7 +29,10 @@ namespace OnlineRidge
     /// about ε/(1 − β) (MATH.md §3.2).</para>
     /// <para><b>β &lt; 1 without excitation</b>: the information in an unexcited direction decays like β̃ᵏ; the state itself cannot wind
     /// up or lose definiteness (it only shrinks). With a positive <see cref="SquareRootSettings.Penalty"/> the solution stays bounded and the
-    /// unexcited coefficients settle at the prior (the penalty does not decay): this is the recommended setting with β &lt; 1. With penalty 0
+    /// unexcited coefficients settle at the prior (the penalty does not decay): this is the recommended setting with β &lt; 1 — with
+    /// <see cref="SquareRootSettings.Standardize"/> off. With standardization the penalty on column j is λσⱼ², and the spread σⱼ of an
+    /// unexcited column decays with its information, so the penalty decays too: the coefficient keeps its old value while the information
+    /// lasts and is then dominated by rounding (observed: p = 2, β = 0.9, λ = 1, after 8000 unexcited samples θ₂ ≈ 10²⁷⁹, finite). With penalty 0
     /// the unexcited coefficient carries an error of order ε‖y‖ divided by the information left, which grows like β̃^(−k/2): after long
     /// unexcited stretches it is meaningless although finite. The rank test works in column-equilibrated coordinates (as the batch solver's),
     /// so it reports <see cref="BreakdownKind.RankDeficient"/> only for a singular scaled system, not for this loss of accuracy.</para>

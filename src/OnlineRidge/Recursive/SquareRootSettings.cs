@@ -111,6 +111,9 @@ namespace OnlineRidge
         /// deviation of column j (with an intercept, σⱼ = ‖R₂₂[:, j]‖/r₁₁, MATH.md §4.3) or its root mean square ‖R[:, j]‖/√W (without).
         /// With an intercept a column with σⱼ ≤ 10³·ε·√(mⱼ² + σⱼ²) is constant and excluded (coefficient 0; MATH.md §4.5 policy); without
         /// one, a column that is exactly zero is excluded. No effect on the solution when both penalties are zero and the design has full rank.
+        /// With β &lt; 1 the scales follow the recent data: the penalty λσⱼ² of a column that stops varying decays with its information, so it
+        /// does not protect that coefficient; when excitation may be lost, turn standardization off and give the penalty in raw units
+        /// (see the remarks of <see cref="SquareRootEstimator"/>).
         /// </summary>
         public bool Standardize { get; init; } = true;
 
