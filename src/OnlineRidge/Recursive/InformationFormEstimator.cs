@@ -15,8 +15,8 @@ namespace OnlineRidge
     /// samples and the same <see cref="RidgeSettings"/>: it minimizes Σᵢ βⁿ⁻ⁱwᵢ(yᵢ − b₀ − xᵢᵀθ)² + λ(θ − θ₀)ᵀD²(θ − θ₀), with b₀ unpenalized
     /// (when <see cref="RidgeSettings.FitIntercept"/>), D = I without standardization, and with it D = diag(σⱼ), σⱼ the weighted population
     /// standard deviation of column j (with an intercept) or its root mean square (without), computed from the same weighted data.
-    /// With an intercept θ̂ = θ₀ + (M_xx + λD²)⁻¹(M_xy − M_xxθ₀) and b̂₀ = m_y − m_xᵀθ̂ (MATH.md §4.4–4.5); without,
-    /// θ̂ = (G + λD²)⁻¹(b + λD²θ₀) (MATH.md §5.2). The penalty is regime C (constant, <see cref="PenaltyRegime.Constant"/>) or regime D
+    /// With an intercept θ̂ = (M_xx + λD²)⁻¹(M_xy + λD²θ₀) (equal to θ₀ + (M_xx + λD²)⁻¹(M_xy − M_xxθ₀)) and b̂₀ = m_y − m_xᵀθ̂
+    /// (MATH.md §4.4–4.5); without, θ̂ = (G + λD²)⁻¹(b + λD²θ₀) (MATH.md §5.2); both solved by Cholesky in the coordinates γ = Dθ. The penalty is regime C (constant, <see cref="PenaltyRegime.Constant"/>) or regime D
     /// (decaying like the data, λ·βⁿ, <see cref="PenaltyRegime.Decaying"/>). With standardization and an intercept, a column whose standard
     /// deviation is at rounding level (σⱼ ≤ 10³·ε·√(mⱼ² + σⱼ²)) is excluded (coefficient 0), as in <see cref="RidgeSettings.Standardize"/>;
     /// without an intercept a column that is exactly zero is excluded.</para>
@@ -513,26 +513,22 @@ namespace OnlineRidge
                 }
             }
 
-            // H = D⁻¹ M_xx D⁻¹ + λI (upper triangle), r = D⁻¹(M_xy − M_xx θ₀) over the active columns.
+            // H = D⁻¹ M_xx D⁻¹ + λI (upper triangle), r = D⁻¹M_xy + λ·Dθ₀ over the active columns, then H·γ = r and θ = D⁻¹γ.
+            // The prior enters only through λ·Dθ₀ (MATH.md §5.2 form H⁻¹(b + Γθ₀)); expanding about θ₀ instead, θ₀ + H⁻¹(M_xy − M_xxθ₀),
+            // would cancel catastrophically when the prior is far from the solution and λ is small.
             for (int k = 0; k < q; k++)
             {
                 int a = active[k];
                 double sa = scale[a];
                 int row = k * q;
-                double r = RecursiveKernels.Get(m, d, a, p);
-                for (int l = 0; l < q; l++)
+                for (int l = k; l < q; l++)
                 {
                     int c = active[l];
-                    double mac = RecursiveKernels.Get(m, d, a, c);
-                    r -= mac * prior[c];
-                    if (l >= k)
-                    {
-                        hessian[row + l] = mac / (sa * scale[c]);
-                    }
+                    hessian[row + l] = RecursiveKernels.Get(m, d, a, c) / (sa * scale[c]);
                 }
 
                 hessian[row + k] += lambda;
-                rhs[k] = r / sa;
+                rhs[k] = (RecursiveKernels.Get(m, d, a, p) / sa) + (lambda * (sa * prior[a]));
             }
 
             if (!Triangular.CholeskyUpper(hessian, q, q, out int failIndex, out double failValue))
@@ -557,7 +553,7 @@ namespace OnlineRidge
             for (int k = 0; k < q; k++)
             {
                 int a = active[k];
-                theta[a] = prior[a] + (step[k] / scale[a]);
+                theta[a] = step[k] / scale[a];
             }
 
             double b = 0.0;
