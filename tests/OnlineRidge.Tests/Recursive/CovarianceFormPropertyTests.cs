@@ -40,7 +40,8 @@ namespace OnlineRidge.Tests.Recursive
                 },
                 data.W.AsSpan(0, k));
 
-        internal readonly record struct Comparison(double ThetaRatio, double CovarianceRatio, double CostRatio, bool Skipped);
+        /// <summary>Largest difference/tolerance ratios of one run; <see cref="ThetaRatioMathPath"/> uses κ_path exactly as MATH.md §10 defines it (no growth term), for reporting only.</summary>
+        internal readonly record struct Comparison(double ThetaRatio, double CovarianceRatio, double CostRatio, double ThetaRatioMathPath, double CovarianceRatioMathPath, int Compared, int Skipped);
 
         /// <summary>
         /// Feeds the case sample by sample and, after every sample k, compares θ_k, P_k and J*_k with the batch regime-D solution of the first k
@@ -57,7 +58,10 @@ namespace OnlineRidge.Tests.Recursive
             double worstTheta = 0.0;
             double worstCov = 0.0;
             double worstCost = 0.0;
-            bool skipped = false;
+            double worstThetaMath = 0.0;
+            double worstCovMath = 0.0;
+            int compared = 0;
+            int skipped = 0;
             double weightSoFar = 0.0;
             for (int k = 1; k <= data.N; k++)
             {
@@ -109,8 +113,17 @@ namespace OnlineRidge.Tests.Recursive
 
                 if (tolA + tolB > ToleranceRule.SkipLevel)
                 {
-                    skipped = true;
+                    skipped++;
                     continue;
+                }
+
+                compared++;
+                {
+                    double tolMath = ToleranceRule.Gram(p, k, path.Max);
+                    worstThetaMath = Math.Max(worstThetaMath, ToleranceRule.Distance(theta, reference) / problem.CoefficientBound(tolMath, tolB, ToleranceRule.Norm(reference)));
+                    var pmMath = Matrix<double>.Build.DenseOfRowMajor(p, p, cov);
+                    var hInvMath = problem.Hessian.Inverse();
+                    worstCovMath = Math.Max(worstCovMath, ((pmMath - hInvMath).FrobeniusNorm() / hInvMath.FrobeniusNorm()) / (tolMath + ToleranceRule.Gram(p, k, problem.Kappa)));
                 }
 
                 // Coefficients: ‖θ_A − θ_B‖ ≤ (tol_A + tol_B)·max(‖θ_B‖, Y/√λ_max) (MATH.md §10).
@@ -134,7 +147,7 @@ namespace OnlineRidge.Tests.Recursive
                 Assert.True(costDiff <= tolJ, $"k={k}: |J* − J*_batch| = {costDiff:E3} > {tolJ:E3}");
             }
 
-            return new Comparison(worstTheta, worstCov, worstCost, skipped);
+            return new Comparison(worstTheta, worstCov, worstCost, worstThetaMath, worstCovMath, compared, skipped);
         }
 
         /// <summary>
