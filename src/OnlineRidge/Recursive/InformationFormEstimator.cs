@@ -1,5 +1,6 @@
 using System;
 using System.Collections.Generic;
+using MathNet.Numerics.LinearAlgebra;
 using OnlineRidge.Internal;
 using OnlineRidge.Standardization;
 
@@ -306,6 +307,173 @@ namespace OnlineRidge
             return SolveCore(lambda, coefficients, out interceptValue, out breakdown);
         }
 
+        /// <summary>
+        /// Solves for many penalties at once from one symmetric eigendecomposition of the scaled Gram matrix D⁻¹M_xxD⁻¹ = VΛVᵀ (MATH.md §5.2,
+        /// the information-form analogue of the path of §1.4): for each λ, γ̂(λ) = V(Λ + λI)⁻¹Vᵀ(D⁻¹M_xy + λDθ₀), θ̂ = D⁻¹γ̂, b̂₀ = m_y − m_xᵀθ̂.
+        /// With λ = 0, eigenvalues Λⱼ ≤ max(τ², 10·q·ε)·Λ₁ (τ = <see cref="RidgeSettings.RankTolerance"/>, default 0; q active columns) count as
+        /// zero and their components are taken from the prior: the minimum-‖D(θ − θ₀)‖ solution, as the batch SVD solver gives (the Gram squares
+        /// the singular values, so singular-value ratios below about √(10qε) ≈ 10⁻⁷ cannot be resolved here).
+        /// </summary>
+        /// <param name="penalties">The penalties λ ≥ 0 (absolute, in the metric D of the settings), any order.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying (regime D: each λ is multiplied by βⁿ).</param>
+        /// <param name="coefficients">Buffer of at least penalties.Length × p values: row r (p values) receives θ̂ for penalties[r].</param>
+        /// <param name="intercepts">Buffer of at least penalties.Length values for b̂₀ (0 without an intercept).</param>
+        /// <exception cref="ArgumentException">A penalty negative or not finite, an unknown regime, or a short buffer.</exception>
+        /// <exception cref="RidgeBreakdownException">No sample of positive weight yet, or a non-finite result.</exception>
+        /// <remarks>
+        /// Cost: O(p³) for the eigendecomposition (MathNet.Numerics; allocates O(p²), not for the hot path) plus O(p²) per penalty. Accuracy as
+        /// <see cref="Solve"/> (relative error of order ε·cond(H), MATH.md §5.4), and no breakdown for an indefinite Gram: every λ &gt; 0 gives an answer.
+        /// </remarks>
+        public void SolvePenaltyPath(ReadOnlySpan<double> penalties, PenaltyRegime penaltyRegime, Span<double> coefficients, Span<double> intercepts)
+        {
+            if (!TrySolvePenaltyPath(penalties, penaltyRegime, coefficients, intercepts, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="SolvePenaltyPath"/>, but reports a breakdown by returning false (buffer contents then unspecified).</summary>
+        /// <param name="penalties">The penalties λ ≥ 0.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying (regime D).</param>
+        /// <param name="coefficients">Buffer of at least penalties.Length × p values.</param>
+        /// <param name="intercepts">Buffer of at least penalties.Length values.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.RankDeficient"/> (no sample of positive weight yet), <see cref="BreakdownKind.NonFinite"/>,
+        /// or <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True on success.</returns>
+        /// <exception cref="ArgumentException">A penalty negative or not finite, an unknown regime, or a short buffer.</exception>
+        public bool TrySolvePenaltyPath(ReadOnlySpan<double> penalties, PenaltyRegime penaltyRegime, Span<double> coefficients, Span<double> intercepts, out BreakdownInfo breakdown)
+        {
+            for (int r = 0; r < penalties.Length; r++)
+            {
+                if (!(penalties[r] >= 0.0) || double.IsInfinity(penalties[r]))
+                {
+                    Guard.ThrowNonFinite(nameof(penalties), r, penalties[r]);
+                }
+            }
+
+            if (penaltyRegime is not (PenaltyRegime.Constant or PenaltyRegime.Decaying))
+            {
+                Guard.ThrowOutOfRange(nameof(penaltyRegime), (double)penaltyRegime, "not a PenaltyRegime member");
+            }
+
+            if (coefficients.Length < penalties.Length * p)
+            {
+                Guard.ThrowLength(nameof(coefficients), coefficients.Length, penalties.Length * p);
+            }
+
+            if (intercepts.Length < penalties.Length)
+            {
+                Guard.ThrowLength(nameof(intercepts), intercepts.Length, penalties.Length);
+            }
+
+            double w = WeightSum;
+            if (!(w > 0.0))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.RankDeficient, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            int d = p + 1;
+            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
+            int q = SelectColumns(m, w, means);
+            double decay = penaltyRegime == PenaltyRegime.Decaying ? StreamingMoments.Decay(beta, SampleCount) : 1.0;
+
+            var h = Matrix<double>.Build.Dense(q, q);
+            var c1 = Vector<double>.Build.Dense(q);
+            var g0 = Vector<double>.Build.Dense(q);
+            for (int k = 0; k < q; k++)
+            {
+                int a = active[k];
+                for (int l = 0; l < q; l++)
+                {
+                    h[k, l] = RecursiveKernels.Get(m, d, a, active[l]) / (scale[a] * scale[active[l]]);
+                }
+
+                c1[k] = RecursiveKernels.Get(m, d, a, p) / scale[a];
+                g0[k] = scale[a] * prior[a];
+            }
+
+            double[] eigenvalues = new double[q];
+            Vector<double> vc = c1;
+            Vector<double> vg = g0;
+            Matrix<double>? v = null;
+            if (q > 0)
+            {
+                var evd = h.Evd(Symmetricity.Symmetric);
+                v = evd.EigenVectors;
+                for (int k = 0; k < q; k++)
+                {
+                    eigenvalues[k] = evd.EigenValues[k].Real;
+                }
+
+                vc = v.TransposeThisAndMultiply(c1);
+                vg = v.TransposeThisAndMultiply(g0);
+            }
+
+            double largest = 0.0;
+            for (int k = 0; k < q; k++)
+            {
+                largest = Math.Max(largest, eigenvalues[k]);
+            }
+
+            double tau = settings.RankTolerance ?? 0.0;
+            double cutoff = Math.Max(tau * tau, 10.0 * q * 2.220446049250313e-16) * largest;
+            var z = Vector<double>.Build.Dense(q);
+            for (int r = 0; r < penalties.Length; r++)
+            {
+                double lambda = penalties[r] * decay;
+                for (int k = 0; k < q; k++)
+                {
+                    double ev = Math.Max(eigenvalues[k], 0.0);
+                    z[k] = lambda == 0.0
+                        ? (ev <= cutoff ? vg[k] : vc[k] / ev)
+                        : (vc[k] + (lambda * vg[k])) / (ev + lambda);
+                }
+
+                Span<double> theta = coefficients.Slice(r * p, p);
+                theta.Clear();
+                if (q > 0)
+                {
+                    Vector<double> gamma = v! * z;
+                    for (int k = 0; k < q; k++)
+                    {
+                        theta[active[k]] = gamma[k] / scale[active[k]];
+                    }
+                }
+
+                double b0 = 0.0;
+                if (intercept)
+                {
+                    b0 = means[p];
+                    for (int j = 0; j < p; j++)
+                    {
+                        b0 -= means[j] * theta[j];
+                    }
+                }
+
+                for (int j = 0; j < p; j++)
+                {
+                    if (!Guard.IsFinite(theta[j]))
+                    {
+                        breakdown = new BreakdownInfo(BreakdownKind.NonFinite, j, theta[j], double.NaN);
+                        return false;
+                    }
+                }
+
+                if (!Guard.IsFinite(b0))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, b0, double.NaN);
+                    return false;
+                }
+
+                intercepts[r] = b0;
+            }
+
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
         /// <summary>Writes θ̂ of the cached solution (settings penalty and <see cref="Regime"/>) into <paramref name="destination"/>; solves on first use after an update.</summary>
         /// <param name="destination">Buffer of length at least p.</param>
         /// <exception cref="ArgumentException">The buffer is too short.</exception>
@@ -479,20 +647,10 @@ namespace OnlineRidge
             solutionValid = true;
         }
 
-        /// <summary>The solve of MATH.md §4.4–4.5 / §5.2 in scaled coordinates γ = Dθ over the active columns.</summary>
-        private bool SolveCore(double lambda, Span<double> theta, out double b0, out BreakdownInfo breakdown)
+        /// <summary>Fills scale (D) and active (non-excluded columns) per the standardization rule; returns the number of active columns.</summary>
+        private int SelectColumns(ReadOnlySpan<double> m, double w, ReadOnlySpan<double> means)
         {
             int d = p + 1;
-            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
-            double w = WeightSum;
-            b0 = double.NaN;
-            if (!(w > 0.0))
-            {
-                breakdown = new BreakdownInfo(BreakdownKind.RankDeficient, -1, double.NaN, double.NaN);
-                return false;
-            }
-
-            ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
             int q = 0;
             for (int j = 0; j < p; j++)
             {
@@ -512,6 +670,25 @@ namespace OnlineRidge
                     active[q++] = j;
                 }
             }
+
+            return q;
+        }
+
+        /// <summary>The solve of MATH.md §4.4–4.5 / §5.2 in scaled coordinates γ = Dθ over the active columns.</summary>
+        private bool SolveCore(double lambda, Span<double> theta, out double b0, out BreakdownInfo breakdown)
+        {
+            int d = p + 1;
+            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            double w = WeightSum;
+            b0 = double.NaN;
+            if (!(w > 0.0))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.RankDeficient, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
+            int q = SelectColumns(m, w, means);
 
             // H = D⁻¹ M_xx D⁻¹ + λI (upper triangle), r = D⁻¹M_xy + λ·Dθ₀ over the active columns, then H·γ = r and θ = D⁻¹γ.
             // The prior enters only through λ·Dθ₀ (MATH.md §5.2 form H⁻¹(b + Γθ₀)); expanding about θ₀ instead, θ₀ + H⁻¹(M_xy − M_xxθ₀),

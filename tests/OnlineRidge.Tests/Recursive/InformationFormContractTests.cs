@@ -120,6 +120,41 @@ namespace OnlineRidge.Tests.Recursive
             Assert.True(est.TrySolve(1e-3, PenaltyRegime.Constant, new double[2], out _, out _));
         }
 
+        /// <summary>
+        /// MATH.md §1.3 (λ = 0, rank deficiency): with two identical columns t, t and y = 2t the solutions are θ₁ + θ₂ = 2, and the one nearest
+        /// the prior θ₀ = (3, −3) is (4, −2) — what the penalty path returns at λ = 0 (exact answer known by hand); the Cholesky solve reports instead.
+        /// </summary>
+        [Fact]
+        public void PenaltyPathAtZeroPenaltyGivesTheSolutionNearestThePriorWhenRankDeficient()
+        {
+            var est = new InformationFormEstimator(2, new RidgeSettings { FitIntercept = false, Standardize = false, Prior = new[] { 3.0, -3.0 } });
+            for (int i = 1; i <= 10; i++)
+            {
+                est.Update(new[] { 0.1 * i, 0.1 * i }, 0.2 * i);
+            }
+
+            var theta = new double[4];
+            var b0 = new double[2];
+            est.SolvePenaltyPath(new[] { 0.0, 1e-8 }, PenaltyRegime.Constant, theta, b0);
+            Assert.Equal(4.0, theta[0], 1e-7);
+            Assert.Equal(-2.0, theta[1], 1e-7);
+            Assert.Equal(4.0, theta[2], 1e-6);
+            Assert.Equal(-2.0, theta[3], 1e-6);
+            Assert.Equal(0.0, b0[0]);
+            Assert.False(est.TrySolve(0.0, PenaltyRegime.Constant, new double[2], out _, out _));
+        }
+
+        [Fact]
+        public void PenaltyPathRejectsBadPenaltiesAndBuffers()
+        {
+            var est = Trained(true);
+            Assert.Equal("penalties", Assert.ThrowsAny<ArgumentException>(() => est.SolvePenaltyPath(new[] { 1.0, -1.0 }, PenaltyRegime.Constant, new double[6], new double[2])).ParamName);
+            Assert.Equal("penalties", Assert.ThrowsAny<ArgumentException>(() => est.SolvePenaltyPath(new[] { double.NaN }, PenaltyRegime.Constant, new double[3], new double[1])).ParamName);
+            Assert.Equal("coefficients", Assert.ThrowsAny<ArgumentException>(() => est.SolvePenaltyPath(new[] { 1.0, 2.0 }, PenaltyRegime.Constant, new double[5], new double[2])).ParamName);
+            Assert.Equal("intercepts", Assert.ThrowsAny<ArgumentException>(() => est.SolvePenaltyPath(new[] { 1.0, 2.0 }, PenaltyRegime.Constant, new double[6], new double[1])).ParamName);
+            Assert.Equal("penaltyRegime", Assert.ThrowsAny<ArgumentException>(() => est.SolvePenaltyPath(new[] { 1.0 }, (PenaltyRegime)9, new double[3], new double[1])).ParamName);
+        }
+
         /// <summary>Overflowing statistics are a tier-2 breakdown: reported, nothing changed.</summary>
         [Fact]
         public void OverflowingUpdateIsReportedAndLeavesTheStateUnchanged()

@@ -154,11 +154,19 @@ namespace OnlineRidge.Tests.Recursive
         /// </summary>
         internal static double CompareWithBatch(RecursiveCase c, RecursiveData data, InformationFormEstimator est, int k)
         {
-            RidgeSettings s = est.Settings;
             PenaltyRegime regime = RegimeOf(c);
             double lambda = regime == PenaltyRegime.Decaying ? c.Penalty * Math.Pow(c.Beta, k) : c.Penalty;
             var theta = new double[c.P];
             bool solved = est.TrySolve(c.Penalty, regime, theta, out double b0, out BreakdownInfo bd);
+            return CompareSolutionWithBatch(c, data, est.Settings, k, lambda, solved, theta, b0, bd);
+        }
+
+        /// <summary>
+        /// Judges one solution (θ, b₀, or a reported breakdown) of the first k samples with effective penalty λ against the batch solution for the
+        /// same settings; returns the difference/tolerance ratio (NaN when the §10 skip rule applied).
+        /// </summary>
+        internal static double CompareSolutionWithBatch(RecursiveCase c, RecursiveData data, RidgeSettings s, int k, double lambda, bool solved, double[] theta, double b0, BreakdownInfo bd)
+        {
             var frame = new RidgeFrame(data, k, c.Beta, s.FitIntercept, s.Standardize, lambda);
             if (!(frame.W > 0))
             {
@@ -242,6 +250,33 @@ namespace OnlineRidge.Tests.Recursive
                         CompareWithBatch(c, data, est, k);
                         next++;
                     }
+                }
+            });
+
+        /// <summary>
+        /// Theorem (MATH.md §5.2, eigen form of the path of §1.4): one eigendecomposition of the scaled Gram matrix gives, for every penalty, the
+        /// batch ridge solution for the same settings (λ = c·10ᵏ for k = −3, 0, 3 and λ = 0, both regimes). Reference: <see cref="BatchRidge"/>;
+        /// tolerance MATH.md §10 (the eigendecomposition of the Gram matrix is Gram class).
+        /// </summary>
+        [RecursiveProperty(Replay = "(8675309,424243)")]
+        public Property InformationFormPenaltyPathEqualsBatchRidgeForEveryPenalty() =>
+            Prop.ForAll(RecursiveGenerators.Arbitrary(1, 150), c =>
+            {
+                RecursiveData data = c.Materialize();
+                var est = new InformationFormEstimator(c.P, SettingsOf(c, data), RegimeOf(c));
+                for (int k = 0; k < data.N; k++)
+                {
+                    est.Update(data.X[k], data.Y[k], data.W[k]);
+                }
+
+                double[] penalties = { c.Penalty * 1e-3, c.Penalty, c.Penalty * 1e3, 0.0 };
+                var thetas = new double[penalties.Length * c.P];
+                var intercepts = new double[penalties.Length];
+                bool solved = est.TrySolvePenaltyPath(penalties, RegimeOf(c), thetas, intercepts, out BreakdownInfo bd);
+                for (int r = 0; r < penalties.Length; r++)
+                {
+                    double lambda = RegimeOf(c) == PenaltyRegime.Decaying ? penalties[r] * Math.Pow(c.Beta, data.N) : penalties[r];
+                    CompareSolutionWithBatch(c, data, est.Settings, data.N, lambda, solved, thetas.AsSpan(r * c.P, c.P).ToArray(), solved ? intercepts[r] : double.NaN, bd);
                 }
             });
 
