@@ -9,7 +9,8 @@ namespace OnlineRidge
     /// <summary>
     /// Recursive regularized least squares in information (sufficient-statistics) form (MATH.md §5): accumulates the forgotten, weighted
     /// Gram statistics of (x, y) — centered co-moments and means when there is an intercept (MATH.md §4.1) — and solves the ridge problem
-    /// exactly at any time, for any penalty, by Cholesky.
+    /// exactly at any time, for any penalty, by Cholesky (<see cref="Solve"/>), or for a whole set of penalties from one eigendecomposition
+    /// (<see cref="SolvePenaltyPath"/>).
     /// </summary>
     /// <remarks>
     /// <para><b>Objective.</b> A solve after n updates returns exactly (in exact arithmetic) what <see cref="BatchRidge"/> returns for the same
@@ -17,13 +18,15 @@ namespace OnlineRidge
     /// (when <see cref="RidgeSettings.FitIntercept"/>), D = I without standardization, and with it D = diag(σⱼ), σⱼ the weighted population
     /// standard deviation of column j (with an intercept) or its root mean square (without), computed from the same weighted data.
     /// With an intercept θ̂ = (M_xx + λD²)⁻¹(M_xy + λD²θ₀) (equal to θ₀ + (M_xx + λD²)⁻¹(M_xy − M_xxθ₀)) and b̂₀ = m_y − m_xᵀθ̂
-    /// (MATH.md §4.4–4.5); without, θ̂ = (G + λD²)⁻¹(b + λD²θ₀) (MATH.md §5.2); both solved by Cholesky in the coordinates γ = Dθ. The penalty is regime C (constant, <see cref="PenaltyRegime.Constant"/>) or regime D
-    /// (decaying like the data, λ·βⁿ, <see cref="PenaltyRegime.Decaying"/>). With standardization and an intercept, a column whose standard
+    /// (MATH.md §4.4–4.5); without, θ̂ = (G + λD²)⁻¹(b + λD²θ₀) (MATH.md §5.2); both solved by Cholesky in the coordinates γ = Dθ.
+    /// The penalty is regime C (constant, <see cref="PenaltyRegime.Constant"/>) or regime D (decaying like the data, λ·βⁿ,
+    /// <see cref="PenaltyRegime.Decaying"/>); βⁿ is computed from the update count n when solving (MATH.md §9: it underflows to 0 for
+    /// n &gt; 708/(−ln β), where the decayed penalty is negligible anyway), never accumulated step by step. With standardization and an intercept, a column whose standard
     /// deviation is at rounding level (σⱼ ≤ 10³·ε·√(mⱼ² + σⱼ²)) is excluded (coefficient 0), as in <see cref="RidgeSettings.Standardize"/>;
     /// without an intercept a column that is exactly zero is excluded.</para>
     /// <para><b>Cost.</b> Update: (p+1)(p+2)/2 multiply-adds (one more per entry when β &lt; 1; twice that with the optional squared-forgetting
-    /// Gram), no allocation. Solve: p³/6 + O(p²), no allocation. Storage about (p+1)²/2 + p² doubles. The solution behind
-    /// <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
+    /// Gram), no allocation. Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty, allocating. Storage about
+    /// (p+1)²/2 + p² doubles. The solution behind <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
     /// <para><b>Accuracy.</b> Limited by the squared condition: cond(G) = cond(X_w)², so the relative error of θ̂ is of order ε·cond(H)
     /// (MATH.md §5.4) — twice the digits a square-root form loses. Centering (the intercept case) removes the damage a large mean would do.
     /// A solve whose condition estimate of H exceeds <see cref="RidgeSettings.CholeskyConditionLimit"/> is refused
