@@ -19,7 +19,7 @@ namespace OnlineRidge
     /// <para><b>Algorithm</b> (per sample x, y, w): v = P·x, s = xᵀv, d = β + w·s, k = (w/d)·v, e = y − xᵀθ (a-priori error),
     /// θ ← θ + k·e, P ← (P − k·vᵀ)/β computed on the upper triangle only (or the Joseph-like form, <see cref="CovarianceUpdate"/>);
     /// minimal cost J*ₙ = β·J*ₙ₋₁ + β·w·e²/d. A zero-weight sample only forgets: θ unchanged, P ← P/β.</para>
-    /// <para><b>Cost.</b> About 1.5·p² multiply-adds per update (2.5·p² Joseph-like), no allocation; storage p(p+1) + 3p doubles (the covariance
+    /// <para><b>Cost.</b> About 1.5·p² multiply-adds per update (2.5·p² Joseph-like), no allocation; storage p(p+1) + 4p doubles (the covariance
     /// is double-buffered so that a failed update leaves it untouched).</para>
     /// <para><b>Accuracy.</b> Not backward stable: the error behaves like ε·κ_path, κ_path = maxₖ cond(Hₖ) over the whole run (MATH.md §2.2
     /// item 3, §10) — largest at the start when δ is small. Prefer the square-root or information forms for ill-conditioned data. With β &lt; 1

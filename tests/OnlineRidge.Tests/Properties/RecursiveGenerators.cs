@@ -31,6 +31,7 @@ namespace OnlineRidge.Tests.Properties
     /// A recipe for one recursive-estimation problem: sizes, forgetting, penalty, prior scale, weights and design, plus the seed of the
     /// deterministic data it expands to (<see cref="Materialize"/>). FsCheck generates and shrinks recipes (smaller n and p, β = 1, unit
     /// weights, a well-conditioned design); the data of a recipe are a pure function of it, so every failure replays exactly.
+    /// <see cref="Flag"/> is a free binary choice for the property (the covariance update form, the penalty regime).
     /// </summary>
     public sealed record RecursiveCase(
         int P,
