@@ -10,7 +10,8 @@ namespace OnlineRidge.Tests.Recursive
     /// <summary>
     /// Measures, for p = 16, the largest covariance-form vs batch difference as a fraction of the MATH.md §10 tolerance over 100 generated
     /// problems (n up to 200, checked every 10 samples), for both update forms, and prints it. It asserts the same bounds as the properties.
-    /// Run: dotnet test --project tests/OnlineRidge.Tests -c Release -- --filter-class "OnlineRidge.Tests.Recursive.CovarianceFormAccuracyReportTests" --output Detailed
+    /// Run (the in-process xUnit runner shows the output of passing tests): dotnet build OnlineRidge.sln -c Release, then
+    /// dotnet tests/OnlineRidge.Tests/bin/Release/net10.0/OnlineRidge.Tests.dll -class "OnlineRidge.Tests.Recursive.CovarianceFormAccuracyReportTests" -showLiveOutput
     /// </summary>
     public class CovarianceFormAccuracyReportTests
     {

@@ -10,7 +10,8 @@ namespace OnlineRidge.Tests.Recursive
     /// <summary>
     /// Measures, for p = 16, the largest information-form vs batch difference as a fraction of the MATH.md §10 tolerance over 200 generated
     /// problems (n up to 200, three checkpoints each, all settings combinations), and prints it. It asserts the same bound as the property.
-    /// Run: dotnet test --project tests/OnlineRidge.Tests -c Release -- --filter-class "OnlineRidge.Tests.Recursive.InformationFormAccuracyReportTests" --output Detailed
+    /// Run (the in-process xUnit runner shows the output of passing tests): dotnet build OnlineRidge.sln -c Release, then
+    /// dotnet tests/OnlineRidge.Tests/bin/Release/net10.0/OnlineRidge.Tests.dll -class "OnlineRidge.Tests.Recursive.InformationFormAccuracyReportTests" -showLiveOutput
     /// </summary>
     public class InformationFormAccuracyReportTests
     {
