@@ -58,6 +58,9 @@ namespace OnlineRidge
 
         public bool Intercept { get; private set; }
 
+        /// <summary>True when the solver scale is an internal equilibration (zero penalty, no standardization), not part of the objective.</summary>
+        public bool Equilibrated { get; private set; }
+
         /// <summary>Number of active columns q.</summary>
         public int Q => Active.Length;
 
@@ -181,6 +184,7 @@ namespace OnlineRidge
             var excluded = new List<int>();
             const double ConstantLevel = 1e3 * 2.220446049250313e-16;
             bool scaled = settings.Standardize || settings.Penalty == 0.0;
+            pr.Equilibrated = scaled && !settings.Standardize;
             for (int j = 0; j < p; j++)
             {
                 double scale = 1.0;

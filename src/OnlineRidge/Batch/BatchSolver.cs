@@ -680,6 +680,11 @@ namespace OnlineRidge
                 gamma[j] = g;
             }
 
+            if (rank < q && pr.Equilibrated)
+            {
+                RawMinimumNorm(pr, vt, rank, gamma);
+            }
+
             for (int i = 0; i < q; i++)
             {
                 for (int j = 0; j < q; j++)
@@ -696,6 +701,32 @@ namespace OnlineRidge
 
             double sq = q > 0 ? s[q - 1] : 0.0;
             cond = lambda > 0.0 ? Math.Sqrt(((s1 * s1) + lambda) / ((sq * sq) + lambda)) : (sq > 0.0 ? s1 / sq : double.PositiveInfinity);
+        }
+
+        /// <summary>
+        /// Rank-deficient SVD solution under the internal equilibration (zero penalty, no standardization): the SVD gives the solution of
+        /// minimal ‖γ − γ₀‖ in equilibrated coordinates γ = S·θ, but the minimum-norm solution promised is minimal in the raw metric
+        /// ‖θ − θ₀‖ (MATH.md §1.3). All solutions are γ + N·z with N the right singular vectors of the dropped singular values, so
+        /// z minimizes ‖S⁻¹(γ − γ₀) + S⁻¹N·z‖, a small least-squares problem (MathNet QR; S⁻¹N has full column rank). O(q·k²).
+        /// The rank test itself stays in equilibrated coordinates, where it does not depend on the units of the columns.
+        /// </summary>
+        private static void RawMinimumNorm(BatchProblem pr, Matrix<double> vt, int rank, double[] gamma)
+        {
+            int q = pr.Q;
+            int k = q - rank;
+            Matrix<double> m = Matrix<double>.Build.Dense(q, k, (j, l) => vt[rank + l, j] / pr.Scale[pr.Active[j]]);
+            Vector<double> r = Vector<double>.Build.Dense(q, j => -(gamma[j] - pr.PriorScaled[j]) / pr.Scale[pr.Active[j]]);
+            Vector<double> z = m.QR().Solve(r);
+            for (int j = 0; j < q; j++)
+            {
+                double shift = 0.0;
+                for (int l = 0; l < k; l++)
+                {
+                    shift += vt[rank + l, j] * z[l];
+                }
+
+                gamma[j] += shift;
+            }
         }
 
         /// <summary>
