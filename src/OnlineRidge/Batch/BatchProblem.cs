@@ -70,7 +70,7 @@ namespace OnlineRidge
             int p = x.Columns;
             if (n == 0)
             {
-                Guard.ThrowArgument(nameof(x), "x has no rows; at least one sample is needed.");
+                Guard.ThrowArgument(nameof(x), "x has 0 rows; at least one sample is needed.");
             }
 
             Guard.Length(y.Length, n, nameof(y));
@@ -132,7 +132,7 @@ namespace OnlineRidge
 
             if (!(wsum > 0.0))
             {
-                Guard.ThrowArgument(nameof(weights), "every effective sample weight is zero; at least one sample must carry weight.");
+                Guard.ThrowArgument(nameof(weights), string.Format(CultureInfo.InvariantCulture, "the effective sample weights wᵢ·βⁿ⁻¹⁻ⁱ sum to {0:R} (every one is zero); at least one sample must carry weight.", wsum));
             }
 
             pr.WeightSum = wsum;

@@ -61,7 +61,7 @@ namespace OnlineRidge
             int cols = x.GetLength(1);
             if (cols < 1)
             {
-                Guard.ThrowArgument(nameof(x), "x must have at least one column.");
+                Guard.ThrowArgument(nameof(x), string.Format(System.Globalization.CultureInfo.InvariantCulture, "x has {0} columns; at least one is needed.", cols));
             }
 
             var data = new double[rows * cols];
