@@ -261,24 +261,32 @@ namespace OnlineRidge.Tests.Batch
             Assert.True(digits.Coefficients >= required, $"Cholesky accepted Filip (condition estimate {fit.ConditionEstimate:E2}) with {digits.Coefficients:F1} digits < {required:F1}");
         }
 
-        /// <summary>Overflow is a breakdown, not an argument error: finite but huge data whose Gram matrix overflows.</summary>
-        [Fact]
-        public void OverflowIsReportedAsBreakdownNotAsGarbage()
+        /// <summary>
+        /// Finite data so large (1e200) that squares overflow: TryFit must report a breakdown (or succeed with finite results), never
+        /// throw; Fit throws only <see cref="RidgeBreakdownException"/>. (The SVD and Auto solvers used to let MathNet's
+        /// NonConvergenceException escape from TryFit.)
+        /// </summary>
+        [Theory]
+        [InlineData(false)]
+        [InlineData(true)]
+        public void OverflowIsReportedAsBreakdownNeverAsForeignException(bool standardize)
         {
             const int n = 10;
             double[] x = Enumerable.Range(0, n * 2).Select(k => 1e200 * (1.0 + (0.1 * Math.Sin(k)))).ToArray();
             double[] y = Enumerable.Range(0, n).Select(k => 1e200 * Math.Cos(k)).ToArray();
-            var settings = new RidgeSettings { Solver = RidgeSolver.Cholesky, Standardize = false, FitIntercept = false, Penalty = 1.0 };
-            bool ok = BatchRidge.TryFit(new MatrixView(x, n, 2), y, settings, default, out RidgeFit? fit, out BreakdownInfo bd);
-            if (ok)
+            foreach (RidgeSolver solver in BatchRidgeProperties.AllSolvers)
             {
-                // Allowed only if the result is genuinely finite.
-                Assert.All(fit!.Coefficients, v => Assert.True(double.IsFinite(v)));
-                Assert.True(double.IsFinite(fit.ResidualSumOfSquares) || double.IsPositiveInfinity(fit.ResidualSumOfSquares));
-            }
-            else
-            {
-                Assert.Contains(bd.Kind, new List<BreakdownKind> { BreakdownKind.NotPositiveDefinite, BreakdownKind.NonFinite, BreakdownKind.IllConditioned });
+                var settings = new RidgeSettings { Solver = solver, Standardize = standardize, FitIntercept = false, Penalty = 1.0 };
+                if (BatchRidge.TryFit(new MatrixView(x, n, 2), y, settings, default, out RidgeFit? fit, out BreakdownInfo bd))
+                {
+                    Assert.All(fit.Coefficients, v => Assert.True(double.IsFinite(v), $"{solver}: coefficient {v}"));
+                }
+                else
+                {
+                    Assert.NotEqual(BreakdownKind.None, bd.Kind);
+                    var ex = Assert.Throws<RidgeBreakdownException>(() => BatchRidge.Fit(new MatrixView(x, n, 2), y, settings));
+                    Assert.Equal(bd, ex.Info);
+                }
             }
         }
     }

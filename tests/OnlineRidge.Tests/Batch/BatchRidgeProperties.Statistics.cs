@@ -130,7 +130,8 @@ namespace OnlineRidge.Tests.Batch
         }
 
         /// <summary>
-        /// Theorem (MATH.md §6.3, covariance of a linear estimator under Var eᵢ = σ²/wᵢ): with β &lt; 1 and λ = 0,
+        /// Theorem (MATH.md §6.3, covariance of a linear estimator under Var eᵢ = σ²/wᵢ): with λ = 0 (and β &lt; 1 in at least half the
+        /// cases; with β = 1 the sandwich reduces to σ̂²·H⁻¹, the textbook weighted-least-squares covariance),
         /// Cov(b̂₀, θ̂) = σ²·H⁻¹G₂H⁻¹ on the intercept-augmented raw design (H = Σ aᵢuᵢuᵢᵀ, G₂ = Σ wᵢβ²⁽ⁿ⁻¹⁻ⁱ⁾uᵢuᵢᵀ, u = (1, x)), with
         /// σ̂² = RSS/ν and ν = N − tr(H⁻¹G₂) (§6.4 with G = H). Everything by MathNet from the raw data; the RSS from the reference
         /// QR solution. Relative tolerance: the smooth-statistic rule plus the rounding level of the RSS, 10(p + √n)ε·Σaᵢ(|yᵢ| + |xᵢ||θ|)²/RSS.
@@ -138,7 +139,7 @@ namespace OnlineRidge.Tests.Batch
         [Property(Arbitrary = new[] { typeof(BatchGenerators) }, MaxTest = 200, Replay = "(20261202011," + Gamma + ")")]
         public void ForgettingStandardErrorsEqualSandwichCovariance(BatchCase generated)
         {
-            BatchCase c = generated.WithPenalty(0.0).WithBeta(generated.Beta == 1.0 ? 0.98 : generated.Beta);
+            BatchCase c = generated.WithPenalty(0.0).WithBeta(generated.Beta == 1.0 && generated.N % 2 == 0 ? 0.98 : generated.Beta);
             ReferenceSolution r = BatchReference.Solve(c);
             double[] a = r.EffectiveWeights;
             int ic = c.Intercept ? 1 : 0;

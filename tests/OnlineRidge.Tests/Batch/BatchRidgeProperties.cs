@@ -1,5 +1,7 @@
 using System;
 using System.Linq;
+using FsCheck;
+using FsCheck.Fluent;
 using FsCheck.Xunit;
 using OnlineRidge.Tests.Properties;
 using OnlineRidge.Tests.Support;
@@ -37,6 +39,29 @@ namespace OnlineRidge.Tests.Batch
             Assert.True(solver == RidgeSolver.Cholesky, $"{solver} broke down ({bd}) on a full-rank problem (kappa {r.Problem.Kappa:E3}): {c}");
             BatchReference.AssertLegitimateCholeskyRefusal(c, r, bd, settings.CholeskyConditionLimit);
             return null;
+        }
+
+        /// <summary>
+        /// Guard against vacuous properties: MATH.md §10 skips a comparison whose tolerances sum to more than 10⁻², so the generator
+        /// must keep most problems below that level. On 300 fixed-seed draws at full size, at least 90 % must be informative for the
+        /// orthogonal class (QR, SVD) and 75 % for the Gram class (Cholesky), and every design kind must occur, with a wide spread of κ.
+        /// </summary>
+        [Fact]
+        public void GeneratedProblemsMostlyCarryInformation()
+        {
+            BatchCase[] cases = Gen.Sample(BatchGenerators.Case, 300, new Rnd(20261202UL, 11400714819323198485UL), 100);
+            Assert.Equal(300, cases.Length);
+            var references = cases.Select(BatchReference.Solve).ToArray();
+            int orthogonal = references.Count(r => 2.0 * r.OwnTolerance <= ToleranceRule.SkipLevel);
+            int gram = references.Count(r => r.Tolerance(RidgeSolver.Cholesky) + r.OwnTolerance <= ToleranceRule.SkipLevel);
+            Assert.True(orthogonal >= 270, $"only {orthogonal}/300 problems informative for QR/SVD");
+            Assert.True(gram >= 225, $"only {gram}/300 problems informative for Cholesky");
+            Assert.All(Enum.GetValues<DesignKind>(), k => Assert.Contains(cases, c => c.Design == k));
+            Assert.Contains(references, r => r.Problem.Kappa > 1e8);
+            Assert.Contains(references, r => r.Problem.Kappa < 10.0);
+            Assert.Contains(cases, c => c.P == 1);
+            Assert.Contains(cases, c => c.P == 20);
+            Assert.Contains(cases, c => c.Beta < 1.0 && c.Prior is not null && c.Intercept && c.Standardize && c.Weights.Any(w => w == 0.0));
         }
 
         /// <summary>
