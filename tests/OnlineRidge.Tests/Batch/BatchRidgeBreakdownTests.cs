@@ -134,12 +134,15 @@ namespace OnlineRidge.Tests.Batch
         /// <summary>
         /// A general rank deficiency (x₂ = x₀ + 2·x₁ with columns of very different scales): without standardization the SVD solution is the
         /// raw minimum-norm one, MathNet's pseudo-inverse of the centered design; with standardization it is minimal in the metric D,
-        /// i.e. D⁻¹(X̃D⁻¹)⁺ỹ. This is where the two metrics differ.
+        /// i.e. D⁻¹(X̃D⁻¹)⁺ỹ. This is where the two metrics differ. With a prior θ₀ the solution is minimal in ‖D(θ − θ₀)‖: θ₀ plus the
+        /// minimum-norm solution for the outputs y − Xθ₀ (substitute θ = θ₀ + δ).
         /// </summary>
         [Theory]
-        [InlineData(false)]
-        [InlineData(true)]
-        public void SvdMinimumNormIsInTheDocumentedMetric(bool standardize)
+        [InlineData(false, false)]
+        [InlineData(true, false)]
+        [InlineData(false, true)]
+        [InlineData(true, true)]
+        public void SvdMinimumNormIsInTheDocumentedMetric(bool standardize, bool withPrior)
         {
             const int n = 30;
             const int p = 3;
@@ -155,12 +158,15 @@ namespace OnlineRidge.Tests.Batch
                 w[i] = 0.5 + (i % 3);
             }
 
-            var settings = new RidgeSettings { Solver = RidgeSolver.Svd, Standardize = standardize };
+            double[] prior = withPrior ? new[] { 0.01, -20.0, 0.5 } : new double[p];
+            var settings = new RidgeSettings { Solver = RidgeSolver.Svd, Standardize = standardize, Prior = withPrior ? prior : null };
             RidgeFit fit = BatchRidge.Fit(new MatrixView(x, n, p), y, settings, w);
             Assert.Equal(2, fit.Rank);
             var c = new BatchCase(n, p, x, y, w, WeightKind.Continuous, DesignKind.Collinear, 0.0, 1.0, true, standardize, null);
             double[] d = BatchReference.Scales(c, w);
-            var (theta, b0, bound, interceptBound) = MinimumNorm(x, y, n, p, true, d, w);
+            double[] shifted = Enumerable.Range(0, n).Select(i => y[i] - Enumerable.Range(0, p).Sum(j => x[(i * p) + j] * prior[j])).ToArray();
+            var (delta, b0, bound, interceptBound) = MinimumNorm(x, shifted, n, p, true, d, w);
+            double[] theta = delta.Select((v, j) => v + prior[j]).ToArray();
             Assert.True(ToleranceRule.Distance(fit.Coefficients.ToArray(), theta) <= bound, $"std={standardize}: coefficients [{string.Join(", ", fit.Coefficients)}] vs minimum norm [{string.Join(", ", theta)}], bound {bound:E2}");
             Assert.True(Math.Abs(fit.Intercept - b0) <= interceptBound, $"intercept {fit.Intercept} vs {b0}");
         }

@@ -82,8 +82,40 @@ namespace OnlineRidge.Tests.Batch
                     continue;
                 }
 
-                BatchReference.AssertClose(BatchReference.Augmented(fit), r.Augmented, r.Problem, r.Tolerance(fit.SolverUsed), r.OwnTolerance, $"{solver} vs MathNet QR, {c}");
+                if (!BatchReference.AssertClose(BatchReference.Augmented(fit), r.Augmented, r.Problem, r.Tolerance(fit.SolverUsed), r.OwnTolerance, $"{solver} vs MathNet QR, {c}"))
+                {
+                    continue;
+                }
+
+                // RSS: at the least-squares minimizer the gradient vanishes, so RSS(θ̂ + δ) = RSS(θ̂) + δᵀHδ exactly, with ‖δ‖ bounded by the
+                // coefficient rule; plus the rounding of the residuals themselves, 10(p + √n)ε·Σaᵢ(|yᵢ| + |b₀| + Σ|xᵢⱼθⱼ|)².
+                double e = r.Tolerance(fit.SolverUsed) * RuleScale(r);
+                double rounding = 10.0 * (r.Parameters + Math.Sqrt(c.N)) * ToleranceRule.Eps * ResidualScale(c, r);
+                double rssSlack = (r.Problem.LambdaMax * e * e) + (2.0 * rounding);
+                Assert.True(Math.Abs(fit.ResidualSumOfSquares - r.ResidualSumOfSquares) <= rssSlack, $"{solver}: RSS {fit.ResidualSumOfSquares:R} vs {r.ResidualSumOfSquares:R} (slack {rssSlack:E2}), {c}");
+                AssertRSquaredDefinition(c, r, fit);
             }
+        }
+
+        /// <summary>Σ aᵢ(|yᵢ| + |b₀| + Σⱼ|xᵢⱼθⱼ|)²: the scale of the rounding errors of the weighted residuals.</summary>
+        internal static double ResidualScale(BatchCase c, ReferenceSolution r) => Enumerable.Range(0, c.N).Sum(i =>
+        {
+            double s = Math.Abs(c.Y[i]) + Math.Abs(r.Intercept) + Enumerable.Range(0, c.P).Sum(j => Math.Abs(c.X[(i * c.P) + j] * r.Theta[j]));
+            return r.EffectiveWeights[i] * s * s;
+        });
+
+        /// <summary>
+        /// Definition (RidgeFit.RSquared, as NIST StRD defines it): 1 − RSS/TSS with the weighted TSS Σaᵢ(yᵢ − ȳ_a)² about the weighted
+        /// mean with an intercept, and the uncentered Σaᵢyᵢ² without; TSS computed here by the textbook two-pass formula.
+        /// </summary>
+        internal static void AssertRSquaredDefinition(BatchCase c, ReferenceSolution r, RidgeFit fit)
+        {
+            double[] a = r.EffectiveWeights;
+            double mean = c.Intercept ? Enumerable.Range(0, c.N).Sum(i => a[i] * c.Y[i]) / a.Sum() : 0.0;
+            double tss = Enumerable.Range(0, c.N).Sum(i => a[i] * (c.Y[i] - mean) * (c.Y[i] - mean));
+            double expected = 1.0 - (fit.ResidualSumOfSquares / tss);
+            double tol = 10.0 * c.N * ToleranceRule.Eps * (Enumerable.Range(0, c.N).Sum(i => a[i] * c.Y[i] * c.Y[i]) / tss) * Math.Max(1.0, Math.Abs(1.0 - expected));
+            Assert.True(Math.Abs(fit.RSquared - expected) <= tol, $"R² {fit.RSquared:R} vs 1 − RSS/TSS = {expected:R} (tol {tol:E2}), {c}");
         }
 
         /// <summary>
@@ -105,6 +137,7 @@ namespace OnlineRidge.Tests.Batch
                 }
 
                 BatchReference.AssertClose(BatchReference.Augmented(fit), r.Augmented, r.Problem, r.Tolerance(fit.SolverUsed), r.OwnTolerance, $"{solver} vs MathNet QR, {c}");
+                AssertRSquaredDefinition(c, r, fit);
 
                 // The reported objective is the minimum J* (MATH.md §10 objective rule, f = 1 + κ for a Gram-class solver, 1 otherwise).
                 double f = fit.SolverUsed == RidgeSolver.Cholesky ? 1.0 + r.Problem.Kappa : 1.0;
