@@ -268,8 +268,12 @@ namespace OnlineRidge
             double s = 0.0;
             for (int i = 0; i < n; i++)
             {
-                double d = (all[(i * p) + j] - m) / absMax;
-                s += a[i] * d * d;
+                // Rows of zero weight must not take part at all: their values are not bounded by absMax, and 0·∞ is NaN.
+                if (a[i] > 0.0)
+                {
+                    double d = (all[(i * p) + j] - m) / absMax;
+                    s += a[i] * d * d;
+                }
             }
 
             return absMax * Math.Sqrt(s / wsum);
