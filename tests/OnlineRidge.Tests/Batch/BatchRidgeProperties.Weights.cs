@@ -153,5 +153,35 @@ namespace OnlineRidge.Tests.Batch
                 Assert.True(Math.Abs(fs.EffectiveDegreesOfFreedom - fc.EffectiveDegreesOfFreedom) <= tol * fc.EffectiveDegreesOfFreedom, $"{solver}: df {fs.EffectiveDegreesOfFreedom:R} vs {fc.EffectiveDegreesOfFreedom:R}");
             }
         }
+
+        /// <summary>
+        /// Contract (BatchRidge remarks): the input is not copied and not modified, and the same inputs give the same bits. Every solver,
+        /// with TryFit and Fit; a breakdown must leave the inputs unchanged too.
+        /// </summary>
+        [Property(Arbitrary = new[] { typeof(BatchGenerators) }, MaxTest = 100, Replay = "(20261202014," + Gamma + ")")]
+        public void FitLeavesItsInputsUnchangedAndIsReproducible(BatchCase c)
+        {
+            double[] x = (double[])c.X.Clone();
+            double[] y = (double[])c.Y.Clone();
+            double[] w = (double[])c.Weights.Clone();
+            foreach (RidgeSolver solver in AllSolvers)
+            {
+                bool first = BatchRidge.TryFit(c.View, c.Y, c.Settings(solver), c.Weights, out RidgeFit? f1, out BreakdownInfo b1);
+                bool second = BatchRidge.TryFit(c.View, c.Y, c.Settings(solver), c.Weights, out RidgeFit? f2, out BreakdownInfo b2);
+                Assert.Equal(first, second);
+                Assert.Equal(b1, b2);
+                if (first)
+                {
+                    Assert.Equal(BatchReference.Augmented(f1!), BatchReference.Augmented(f2!));
+                    Assert.Equal(f1!.ResidualSumOfSquares, f2!.ResidualSumOfSquares);
+                    Assert.Equal(f1.ConditionEstimate, f2.ConditionEstimate);
+                    Assert.Equal(f1.EffectiveDegreesOfFreedom, f2.EffectiveDegreesOfFreedom);
+                }
+
+                Assert.Equal(x, c.X);
+                Assert.Equal(y, c.Y);
+                Assert.Equal(w, c.Weights);
+            }
+        }
     }
 }
