@@ -26,9 +26,9 @@ namespace OnlineRidge.Tests.Batch
         /// Fits with one solver. Cholesky may refuse, but only legitimately (see <see cref="BatchReference.AssertLegitimateCholeskyRefusal"/>);
         /// every other solver must succeed on these full-rank problems. Returns null when Cholesky refused.
         /// </summary>
-        internal static RidgeFit? FitOrLegitimateRefusal(BatchCase c, RidgeSolver solver, ReferenceSolution r)
+        internal static RidgeFit? FitOrLegitimateRefusal(BatchCase c, RidgeSolver solver, ReferenceSolution r, int refinementSteps = 3)
         {
-            var settings = c.Settings(solver);
+            var settings = c.Settings(solver, refinementSteps);
             if (BatchRidge.TryFit(c.View, c.Y, settings, c.Weights, out RidgeFit? fit, out BreakdownInfo bd))
             {
                 Assert.NotEqual(RidgeSolver.Auto, fit.SolverUsed);
@@ -76,6 +76,13 @@ namespace OnlineRidge.Tests.Batch
             ReferenceSolution r = BatchReference.Solve(c);
             foreach (RidgeSolver solver in AllSolvers)
             {
+                // The solver alone (no refinement) is within its own class tolerance too.
+                RidgeFit? unrefined = FitOrLegitimateRefusal(c, solver, r, refinementSteps: 0);
+                if (unrefined is not null)
+                {
+                    BatchReference.AssertClose(BatchReference.Augmented(unrefined), r.Augmented, r.Problem, r.Tolerance(unrefined.SolverUsed), r.OwnTolerance, $"{solver} without refinement vs MathNet QR, {c}");
+                }
+
                 RidgeFit? fit = FitOrLegitimateRefusal(c, solver, r);
                 if (fit is null)
                 {
@@ -121,7 +128,8 @@ namespace OnlineRidge.Tests.Batch
         /// <summary>
         /// Theorem (ridge as augmented least squares; MATH.md §1.3, §4.5): the minimizer of Σ aᵢ(yᵢ − b₀ − xᵢᵀθ)² + λ‖D(θ − θ₀)‖² is
         /// the least-squares solution of [√A·[1, X]; [0, √λ·D]]·(b₀, θ) ≈ [√A·y; √λ·D·θ₀] (intercept unpenalized). Checked for every
-        /// solver, with and without intercept, standardization, prior and forgetting. Reference: MathNet's QR solve of that system.
+        /// solver, with and without intercept, standardization, prior and forgetting, and also without iterative refinement (which would
+        /// otherwise repair a wrong solve: a QR solver ignoring the prior passes once refined). Reference: MathNet's QR solve of that system.
         /// </summary>
         [Property(Arbitrary = new[] { typeof(BatchGenerators) }, MaxTest = 300, Replay = "(20261202002," + Gamma + ")")]
         public void RidgeEqualsLeastSquaresOfTheAugmentedSystem(BatchCase c)
@@ -130,6 +138,12 @@ namespace OnlineRidge.Tests.Batch
             ReferenceSolution r = BatchReference.Solve(c);
             foreach (RidgeSolver solver in AllSolvers)
             {
+                RidgeFit? unrefined = FitOrLegitimateRefusal(c, solver, r, refinementSteps: 0);
+                if (unrefined is not null)
+                {
+                    BatchReference.AssertClose(BatchReference.Augmented(unrefined), r.Augmented, r.Problem, r.Tolerance(unrefined.SolverUsed), r.OwnTolerance, $"{solver} without refinement vs MathNet QR, {c}");
+                }
+
                 RidgeFit? fit = FitOrLegitimateRefusal(c, solver, r);
                 if (fit is null)
                 {
