@@ -13,7 +13,7 @@ namespace SensorCalibration
     /// all in raw units. Its columns are nearly collinear and span some 27 orders of magnitude, and the chamber run is short,
     /// so ordinary least squares follows the noise; ridge shrinks the poorly determined directions.
     /// </summary>
-    internal static class Program
+    internal static partial class Program
     {
         private const int Seed = 2_026;
         private const int TrainingPoints = 24;
@@ -81,6 +81,11 @@ namespace SensorCalibration
                 $"ridge ({fits[chosen].Label}, chosen by GCV on the training data alone) spends {ridge.EffectiveDegreesOfFreedom:F1}, fits the training points a little worse (bias) and"));
             Console.WriteLine(string.Create(inv,
                 $"predicts the held-out points {(ridgeHeldOut < olsHeldOut ? "better" : "no better")}: {ridgeHeldOut:F3} vs {olsHeldOut:F3} %RH RMS (the reference hygrometer alone scatters {Chamber.ReferenceNoise:F1} %RH)."));
+
+            WriteFigures(training, heldOut, ols, ridge, fits[chosen].Label);
+
+            Console.WriteLine();
+            Console.WriteLine("Caution: a calibration feeding a control loop must be validated on independent points before the loop is closed on it, and supervised in service.");
             return 0;
         }
 
@@ -134,12 +139,14 @@ namespace SensorCalibration
                 int p = TermNames.Length;
                 var design = new double[points * p];
                 var humidity = new double[points];
+                var truth = new double[points];
                 for (int i = 0; i < points; i++)
                 {
                     double rh = 10.0 + (80.0 * random.NextDouble());
                     double t = 5.0 + (40.0 * random.NextDouble());
                     double r = RawCounts(rh, t) + (CountNoise * Gaussian(random));
                     humidity[i] = rh + (ReferenceNoise * Gaussian(random));
+                    truth[i] = rh;
 
                     Span<double> row = design.AsSpan(i * p, p);
                     double power = 1.0;
@@ -154,7 +161,7 @@ namespace SensorCalibration
                     row[Degree + 2] = t * t;
                 }
 
-                return new Data(design, humidity);
+                return new Data(design, humidity, truth);
             }
 
             /// <summary>The probe's response: offset, a slightly bending sensitivity, and a temperature-dependent gain and offset.</summary>
@@ -171,8 +178,8 @@ namespace SensorCalibration
                 return Math.Sqrt(-2.0 * Math.Log(u1)) * Math.Cos(2.0 * Math.PI * u2);
             }
 
-            /// <summary>Design rows and reference humidities of one run.</summary>
-            public sealed record Data(double[] Design, double[] Humidity)
+            /// <summary>Design rows, reference-hygrometer humidities and the chamber's true humidities of one run.</summary>
+            public sealed record Data(double[] Design, double[] Humidity, double[] TrueHumidity)
             {
                 /// <summary>Number of points.</summary>
                 public int Count => Humidity.Length;
