@@ -23,6 +23,8 @@ namespace OnlineRidge
             var gamma = new double[q];
             var f = new double[q * q];        // Hinv = F·Fᵀ
             var sMatrix = new double[q * q];  // S = Hinv·G (hat matrix in parameter space)
+            var gram = new double[q * q];     // G, the data-only Gram matrix in solver coordinates (Cholesky path)
+            double[]? dataFactor = null;      // T = [[R, z], [0, ρ]] of the data (QR path)
             double cond = 1.0;
             int rank = q;
             double trS = 0.0;
@@ -37,7 +39,7 @@ namespace OnlineRidge
                 bool done = false;
                 if (settings.Solver is RidgeSolver.Cholesky or RidgeSolver.Auto)
                 {
-                    if (!TryCholesky(pr, x, y, settings, gamma, f, out cond, out BreakdownInfo bd))
+                    if (!TryCholesky(pr, x, y, settings, gamma, f, gram, out cond, out BreakdownInfo bd))
                     {
                         if (settings.Solver == RidgeSolver.Cholesky)
                         {
@@ -63,6 +65,7 @@ namespace OnlineRidge
                     else if (TryQr(pr, t, tolerance, gamma, f, out cond, out BreakdownInfo bd))
                     {
                         used = RidgeSolver.Qr;
+                        dataFactor = t;
                     }
                     else if (settings.Solver == RidgeSolver.Auto && bd.Kind == BreakdownKind.RankDeficient)
                     {
@@ -78,30 +81,7 @@ namespace OnlineRidge
 
                 if (used != RidgeSolver.Svd)
                 {
-                    // S = I − λ·Hinv, Hinv = F·Fᵀ (penalty λI in solver coordinates).
-                    double trHinv = 0.0;
-                    double frobHinv2 = 0.0;
-                    for (int i = 0; i < q; i++)
-                    {
-                        for (int j = 0; j < q; j++)
-                        {
-                            double h = 0.0;
-                            for (int k = Math.Max(i, j); k < q; k++)
-                            {
-                                h += f[(i * q) + k] * f[(j * q) + k];
-                            }
-
-                            sMatrix[(i * q) + j] = (i == j ? 1.0 : 0.0) - (lambda * h);
-                            frobHinv2 += h * h;
-                            if (i == j)
-                            {
-                                trHinv += h;
-                            }
-                        }
-                    }
-
-                    trS = q - (lambda * trHinv);
-                    trS2 = q - (2.0 * lambda * trHinv) + (lambda * lambda * frobHinv2);
+                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, q, lambda, sMatrix, out trS, out trS2);
                 }
             }
             else
@@ -202,7 +182,7 @@ namespace OnlineRidge
                 nu = pr.DiscountedCount - (2.0 * t1) + t2;
             }
 
-            double[] unitCovariance = BatchCovariance.Compute(pr, f, cFull, settings.Covariance);
+            double[] unitCovariance = BatchCovariance.Compute(pr, f, sMatrix, cFull, settings.Covariance);
             fit = new RidgeFit(
                 theta, intercept, pr.Intercept, unitCovariance, rss, nu, rSquared, df, cond, used, rank,
                 pr.Excluded, pr.Rows, pr.WeightSum, pr.DiscountedCount, lambda, objective);
@@ -336,7 +316,7 @@ namespace OnlineRidge
         }
 
         /// <summary>Cholesky of H = G + λI from the Gram matrix of the weighted rows. F receives R⁻¹ (Hinv = F·Fᵀ).</summary>
-        private static bool TryCholesky(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y, RidgeSettings settings, double[] gamma, double[] f, out double cond, out BreakdownInfo breakdown)
+        private static bool TryCholesky(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y, RidgeSettings settings, double[] gamma, double[] f, double[] gram, out double cond, out BreakdownInfo breakdown)
         {
             int q = pr.Q;
             int c = q + 1;
@@ -370,6 +350,12 @@ namespace OnlineRidge
                     h[(j * q) + k] = g[(j * c) + k];
                 }
 
+                for (int k = j; k < q; k++)
+                {
+                    gram[(j * q) + k] = g[(j * c) + k];
+                    gram[(k * q) + j] = g[(j * c) + k];
+                }
+
                 h[(j * q) + j] += lambda;
                 gamma[j] = g[(j * c) + q] + (lambda * pr.PriorScaled[j]);
             }
@@ -395,6 +381,79 @@ namespace OnlineRidge
             Triangular.InvertUpper(h, q, q, f);
             breakdown = BreakdownInfo.None;
             return true;
+        }
+
+        /// <summary>
+        /// The hat matrix in parameter space S = H⁻¹G (H = G + λI in solver coordinates) and its traces tr S, tr S², from the spectrum of
+        /// the data: S = V·diag(sⱼ²/(sⱼ² + λ))·Vᵀ with sⱼ, V the singular values and right vectors of the data factor R (QR path) or the
+        /// eigen-decomposition of the data Gram G (Cholesky path), as the SVD solver does. Not as I − λ·H⁻¹: that equal form cancels
+        /// catastrophically once λ ≫ sⱼ² (tr S = q − λ·tr H⁻¹ → 0 loses its relative accuracy: p = 1, λ/s² = 7·10³ gave df wrong in the
+        /// 12th digit); nor as H⁻¹·G, which loses ε·cond(H) when λ is small. With λ = 0 (full rank) S = I exactly. Cost O(q³).
+        /// </summary>
+        private static void HatMatrix(double[]? dataFactor, double[] gram, int q, double lambda, double[] sMatrix, out double trS, out double trS2)
+        {
+            Array.Clear(sMatrix, 0, sMatrix.Length);
+            if (lambda == 0.0)
+            {
+                for (int i = 0; i < q; i++)
+                {
+                    sMatrix[(i * q) + i] = 1.0;
+                }
+
+                trS = q;
+                trS2 = q;
+                return;
+            }
+
+            var s2 = new double[q];
+            Matrix<double> v;
+            if (dataFactor is not null)
+            {
+                int c = q + 1;
+                Matrix<double> r = Matrix<double>.Build.Dense(q, q, (i, j) => j >= i ? dataFactor[(i * c) + j] : 0.0);
+                var svd = r.Svd(true);
+                for (int k = 0; k < q; k++)
+                {
+                    s2[k] = svd.S[k] * svd.S[k];
+                }
+
+                v = svd.VT.Transpose();
+            }
+            else
+            {
+                Matrix<double> g = Matrix<double>.Build.Dense(q, q, (i, j) => gram[(i * q) + j]);
+                var evd = g.Evd(Symmetricity.Symmetric);
+                for (int k = 0; k < q; k++)
+                {
+                    s2[k] = Math.Max(0.0, evd.EigenValues[k].Real);
+                }
+
+                v = evd.EigenVectors;
+            }
+
+            trS = 0.0;
+            trS2 = 0.0;
+            var hat = new double[q];
+            for (int k = 0; k < q; k++)
+            {
+                hat[k] = s2[k] / (s2[k] + lambda);
+                trS += hat[k];
+                trS2 += hat[k] * hat[k];
+            }
+
+            for (int i = 0; i < q; i++)
+            {
+                for (int j = 0; j < q; j++)
+                {
+                    double h = 0.0;
+                    for (int k = 0; k < q; k++)
+                    {
+                        h += v[i, k] * hat[k] * v[j, k];
+                    }
+
+                    sMatrix[(i * q) + j] = h;
+                }
+            }
         }
 
         /// <summary>Householder factor T = [[R, z], [0, ρ]] of the weighted rows in solver coordinates ((q+1)×(q+1), row-major).</summary>
