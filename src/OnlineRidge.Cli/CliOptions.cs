@@ -99,7 +99,9 @@ Output:
   --out PREFIX             write PREFIX.estimate.csv and PREFIX.estimate.json (parameters, standard errors, intervals,
                            diagnostics) and, for recursive forms, PREFIX.trajectory.csv. Each file is written to a temporary
                            file in the same folder and moved into place only when the whole run succeeded.
-  --every K                write one trajectory row every K-th regressor row (default 1).
+  --every K                recursive forms: read the estimate every K-th regressor row (default 1) — one trajectory row and
+                           one one-step-ahead prediction error y(t) − ŷ(t|t−1) each time. Reading costs a solve (O(p³) for the
+                           square-root form), updating only O(p²): a larger K makes long files much faster.
   --level L                confidence level of the intervals, in (0, 1) (default 0.95).
   --separator C            field separator (default ','; use 'tab' for tab-separated files).
   --quiet                  no progress bar (it is only shown when standard error is a terminal and the file is large).

@@ -2,6 +2,7 @@ using System;
 using System.Collections.Generic;
 using System.Globalization;
 using System.IO;
+using System.Linq;
 using System.Text.Json;
 
 namespace OnlineRidge.Cli
@@ -47,6 +48,12 @@ namespace OnlineRidge.Cli
         /// <summary>Recursive forms: root mean square of the one-step-ahead prediction errors (weighted).</summary>
         public double PredictionErrorRms { get; private set; } = double.NaN;
 
+        /// <summary>Recursive forms: number of one-step-ahead predictions in <see cref="PredictionErrorRms"/>.</summary>
+        public long PredictionCount { get; private set; }
+
+        /// <summary>Recursive forms: the form's own final diagnostics.</summary>
+        public IReadOnlyList<KeyValuePair<string, double>> RecursiveDiagnostics { get; private set; } = Array.Empty<KeyValuePair<string, double>>();
+
         public void SetBatch(RidgeFit fit, CollinearityDiagnostics collinearity)
         {
             Fit = fit;
@@ -57,8 +64,10 @@ namespace OnlineRidge.Cli
             Penalty = fit.Penalty;
         }
 
-        public void SetRecursive(double intercept, double[] theta, double predictionErrorRms, double penalty)
+        public void SetRecursive(double intercept, double[] theta, double predictionErrorRms, long predictionCount, double penalty, IReadOnlyList<KeyValuePair<string, double>> extra)
         {
+            RecursiveDiagnostics = extra;
+            PredictionCount = predictionCount;
             FinalIntercept = intercept;
             Coefficients = (double[])theta.Clone();
             PredictionErrorRms = predictionErrorRms;
@@ -157,7 +166,12 @@ namespace OnlineRidge.Cli
             }
             else
             {
-                Number(j, "predictionErrorRms", PredictionErrorRms);
+                Number(j, "oneStepPredictionErrorRms", PredictionErrorRms);
+                j.WriteNumber("oneStepPredictions", PredictionCount);
+                foreach (var kv in RecursiveDiagnostics)
+                {
+                    Number(j, kv.Key, kv.Value);
+                }
             }
 
             if (Collinearity is { } d)
@@ -217,7 +231,8 @@ namespace OnlineRidge.Cli
             }
             else
             {
-                w.WriteLine(string.Format(Inv, "one-step-ahead prediction error RMS {0:G6} (standard errors are reported by the batch estimator only)", PredictionErrorRms));
+                w.WriteLine(string.Format(Inv, "one-step-ahead prediction error RMS {0:G6} over {1} predictions{2}", PredictionErrorRms, PredictionCount, string.Concat(RecursiveDiagnostics.Select(kv => string.Format(Inv, ", {0} {1:G6}", kv.Key, kv.Value)))));
+                w.WriteLine("(standard errors and intervals are reported by the batch estimator)");
             }
         }
 

@@ -8,6 +8,26 @@ namespace OnlineRidge.Cli
     internal sealed record RecursiveRequest(int ParameterCount, double ForgettingFactor, double Penalty, bool Intercept, bool Standardize);
 
     /// <summary>
+    /// A recursive estimator as the tool drives it: the common <see cref="IRecursiveEstimator"/> shape, plus a probe that tells whether a
+    /// solution can be read now (without throwing; early on there are fewer samples than parameters) and the form's own final diagnostics.
+    /// </summary>
+    internal sealed class RecursiveForm
+    {
+        public RecursiveForm(IRecursiveEstimator estimator, Func<bool> trySolve, Func<IReadOnlyList<KeyValuePair<string, double>>> diagnostics)
+        {
+            Estimator = estimator;
+            TrySolve = trySolve;
+            Diagnostics = diagnostics;
+        }
+
+        public IRecursiveEstimator Estimator { get; }
+
+        public Func<bool> TrySolve { get; }
+
+        public Func<IReadOnlyList<KeyValuePair<string, double>>> Diagnostics { get; }
+    }
+
+    /// <summary>
     /// The estimators the tool offers. "batch" is solved once at the end; every other name maps to a recursive form created through
     /// <see cref="IRecursiveEstimator"/>, so adding a form to the tool is one entry here.
     /// </summary>
@@ -15,8 +35,25 @@ namespace OnlineRidge.Cli
     {
         public const string Batch = "batch";
 
-        private static readonly Dictionary<string, Func<RecursiveRequest, IRecursiveEstimator>> Recursive = new(StringComparer.Ordinal)
+        private static readonly Dictionary<string, Func<RecursiveRequest, RecursiveForm>> Recursive = new(StringComparer.Ordinal)
         {
+            ["square-root"] = r =>
+            {
+                var e = new SquareRootEstimator(r.ParameterCount, new SquareRootSettings
+                {
+                    ForgettingFactor = r.ForgettingFactor,
+                    Penalty = r.Penalty,
+                    FitIntercept = r.Intercept,
+                    Standardize = r.Standardize,
+                });
+                return new RecursiveForm(e, () => e.TrySolve(out _), () => new[]
+                {
+                    new KeyValuePair<string, double>("conditionEstimate", e.ConditionEstimate),
+                    new KeyValuePair<string, double>("residualSumOfSquares", e.ResidualSumOfSquares),
+                    new KeyValuePair<string, double>("weightSum", e.WeightSum),
+                    new KeyValuePair<string, double>("effectiveForgettingFactor", e.EffectiveForgettingFactor),
+                });
+            },
         };
 
         /// <summary>All names, batch first.</summary>
@@ -24,7 +61,7 @@ namespace OnlineRidge.Cli
 
         public static bool IsKnown(string name) => name == Batch || Recursive.ContainsKey(name);
 
-        public static IRecursiveEstimator Create(string name, RecursiveRequest request) =>
+        public static RecursiveForm Create(string name, RecursiveRequest request) =>
             Recursive.TryGetValue(name, out var make) ? make(request) : throw new UsageException($"--estimator {name} is unknown; use one of: {string.Join(", ", Names)}.");
     }
 }

@@ -89,9 +89,15 @@ namespace OnlineRidge.Cli
         }
     }
 
-    /// <summary>Updates a recursive estimator sample by sample and writes the parameter trajectory every k-th row; constant memory.</summary>
+    /// <summary>
+    /// Updates a recursive estimator sample by sample and writes the parameter trajectory every k-th row; constant memory, no allocation
+    /// per row. Also accumulates the one-step-ahead (a-priori) prediction errors y(t) − ŷ(t | t−1), the honest error measure of a
+    /// recursive fit, on the rows where the estimate is read. Rows before a solution exists (fewer samples than parameters) have empty
+    /// trajectory fields.
+    /// </summary>
     internal sealed class RecursiveSink : Sink
     {
+        private readonly RecursiveForm form;
         private readonly IRecursiveEstimator estimator;
         private readonly TextWriter? trajectory;
         private readonly int every;
@@ -99,10 +105,12 @@ namespace OnlineRidge.Cli
         private readonly char[] buffer = new char[64];
         private double squaredErrors;
         private double errorWeight;
+        private long errorCount;
 
-        public RecursiveSink(IRecursiveEstimator estimator, StagedFile? trajectoryFile, IReadOnlyList<string> terms, int every)
+        public RecursiveSink(RecursiveForm form, StagedFile? trajectoryFile, IReadOnlyList<string> terms, int every)
         {
-            this.estimator = estimator;
+            this.form = form;
+            estimator = form.Estimator;
             this.every = every;
             theta = new double[estimator.ParameterCount];
             if (trajectoryFile is not null)
@@ -121,11 +129,15 @@ namespace OnlineRidge.Cli
 
         public override void Accept(ReadOnlySpan<double> x, double y, double weight, int line)
         {
-            if (Rows > 0)
+            // The estimate is read (a solve, O(p³) for the square-root form) only on every k-th row: just before its update for the
+            // one-step-ahead error and just after it for the trajectory.
+            bool read = (Rows + 1) % every == 0;
+            if (read && Rows > 0 && form.TrySolve())
             {
-                double e = y - estimator.Predict(x); // a-priori (one-step-ahead) prediction error
+                double e = y - estimator.Predict(x);
                 squaredErrors += weight * e * e;
                 errorWeight += weight;
+                errorCount++;
             }
 
             try
@@ -138,18 +150,28 @@ namespace OnlineRidge.Cli
             }
 
             Rows++;
-            if (trajectory is not null && Rows % every == 0)
+            if (read && trajectory is not null)
             {
-                estimator.CopyParametersTo(theta);
                 Write(Rows);
                 trajectory.Write(',');
                 Write(line);
-                trajectory.Write(',');
-                Write(estimator.Intercept);
-                for (int j = 0; j < theta.Length; j++)
+                if (form.TrySolve())
                 {
+                    estimator.CopyParametersTo(theta);
                     trajectory.Write(',');
-                    Write(theta[j]);
+                    Write(estimator.Intercept);
+                    for (int j = 0; j < theta.Length; j++)
+                    {
+                        trajectory.Write(',');
+                        Write(theta[j]);
+                    }
+                }
+                else
+                {
+                    for (int j = 0; j <= theta.Length; j++)
+                    {
+                        trajectory.Write(',');
+                    }
                 }
 
                 trajectory.WriteLine();
@@ -158,8 +180,8 @@ namespace OnlineRidge.Cli
 
         public override void Finish(RidgeSettings settings, bool chooseByGcv, EstimateReport report)
         {
-            estimator.CopyParametersTo(theta);
-            report.SetRecursive(estimator.Intercept, theta, errorWeight > 0 ? Math.Sqrt(squaredErrors / errorWeight) : double.NaN, settings.Penalty);
+            estimator.CopyParametersTo(theta); // throws RidgeBreakdownException when no solution exists
+            report.SetRecursive(estimator.Intercept, theta, errorWeight > 0 ? Math.Sqrt(squaredErrors / errorWeight) : double.NaN, errorCount, settings.Penalty, form.Diagnostics());
         }
 
         private void Write(double v)
