@@ -98,11 +98,14 @@ namespace OnlineRidge.Cli
             bool batch = o.Estimator == EstimatorFactory.Batch;
             int p = model.RegressorCount;
 
+            TrajectoryPlot? plot = o.PlotPath is null ? null : new TrajectoryPlot(p);
+            StagedFile? plotFile = o.PlotPath is null ? null : outputs.Add(o.PlotPath, open: false);
             Sink sink = batch
                 ? new BatchSink(p)
                 : new RecursiveSink(
                     EstimatorFactory.Create(o.Estimator, new RecursiveRequest(p, o.Forgetting, o.Penalty, o.Intercept, o.Standardize)),
                     o.OutPrefix is null ? null : outputs.Add(o.OutPrefix + ".trajectory.csv"),
+                    plot,
                     model.Terms,
                     o.Every);
 
@@ -167,23 +170,26 @@ namespace OnlineRidge.Cli
             };
             sink.Finish(settings, o.ChoosePenaltyByGcv, report);
 
+            if (plot is not null)
+            {
+                plot.Render(plotFile!.TempPath, $"parameter trajectory ({o.Estimator}, forgetting factor {o.Forgetting.ToString("G6", CultureInfo.InvariantCulture)})", model.Terms, o.Intercept);
+            }
+
             if (o.OutPrefix is not null)
             {
                 var csvOut = outputs.Add(o.OutPrefix + ".estimate.csv");
                 report.WriteCsv(csvOut.Writer);
                 var json = outputs.Add(o.OutPrefix + ".estimate.json");
                 report.WriteJson(json.BaseStream);
-                outputs.CommitAll();
             }
+
+            outputs.CommitAll();
 
             report.WriteSummary(stdout);
             stdout.WriteLine(string.Format(Inv, "read {0} samples in {1:F2} s ({2:N0} rows/s)", samples, seconds, samples / Math.Max(seconds, 1e-9)));
-            if (o.OutPrefix is not null)
+            foreach (string f in outputs.FinalPaths)
             {
-                foreach (string f in outputs.FinalPaths)
-                {
-                    stdout.WriteLine($"wrote {f}");
-                }
+                stdout.WriteLine($"wrote {f}");
             }
 
             return ExitOk;

@@ -51,6 +51,8 @@ namespace OnlineRidge.Cli
 
         public double Level { get; private set; } = 0.95;
 
+        public string? PlotPath { get; private set; }
+
         public char Separator { get; private set; } = ',';
 
         public bool Quiet { get; private set; }
@@ -99,6 +101,8 @@ Output:
   --out PREFIX             write PREFIX.estimate.csv and PREFIX.estimate.json (parameters, standard errors, intervals,
                            diagnostics) and, for recursive forms, PREFIX.trajectory.csv. Each file is written to a temporary
                            file in the same folder and moved into place only when the whole run succeeded.
+  --plot FILE.png|FILE.svg recursive forms: draw the parameter trajectory (at most 4096 evenly spaced points per parameter).
+                           Written like the other outputs: only when the whole run succeeded.
   --every K                recursive forms: read the estimate every K-th regressor row (default 1) — one trajectory row and
                            one one-step-ahead prediction error y(t) − ŷ(t|t−1) each time. Reading costs a solve (O(p³) for the
                            square-root form), updating only O(p²): a larger K makes long files much faster.
@@ -229,6 +233,14 @@ Exit codes: 0 success; 1 command-line mistake; 2 malformed input (the message na
                     case "--out":
                         o.OutPrefix = Value();
                         break;
+                    case "--plot":
+                        o.PlotPath = Value();
+                        if (!TrajectoryPlot.IsSupported(o.PlotPath))
+                        {
+                            throw new UsageException($"--plot '{o.PlotPath}' is invalid: the file name must end in .png or .svg.");
+                        }
+
+                        break;
                     case "--level":
                         o.Level = ParseDouble(name, Value());
                         if (!(o.Level > 0 && o.Level < 1))
@@ -282,6 +294,11 @@ Exit codes: 0 success; 1 command-line mistake; 2 malformed input (the message na
             if (o.ChoosePenaltyByGcv && o.Estimator != "batch")
             {
                 throw new UsageException("--penalty gcv needs --estimator batch (the criterion needs all rows at once).");
+            }
+
+            if (o.PlotPath is not null && o.Estimator == "batch")
+            {
+                throw new UsageException("--plot draws the parameter trajectory of a recursive --estimator; the batch estimator has none.");
             }
 
             return o;

@@ -106,9 +106,11 @@ namespace OnlineRidge.Cli
         private double squaredErrors;
         private double errorWeight;
         private long errorCount;
+        private readonly TrajectoryPlot? plot;
 
-        public RecursiveSink(RecursiveForm form, StagedFile? trajectoryFile, IReadOnlyList<string> terms, int every)
+        public RecursiveSink(RecursiveForm form, StagedFile? trajectoryFile, TrajectoryPlot? plot, IReadOnlyList<string> terms, int every)
         {
+            this.plot = plot;
             this.form = form;
             estimator = form.Estimator;
             this.every = every;
@@ -150,14 +152,28 @@ namespace OnlineRidge.Cli
             }
 
             Rows++;
-            if (read && trajectory is not null)
+            if (read && (trajectory is not null || plot is not null))
+            {
+                WriteTrajectoryRow(line);
+            }
+        }
+
+        private void WriteTrajectoryRow(int line)
+        {
+            bool solved = form.TrySolve();
+            if (solved)
+            {
+                estimator.CopyParametersTo(theta);
+                plot?.Add(Rows, estimator.Intercept, theta);
+            }
+
+            if (trajectory is not null)
             {
                 Write(Rows);
                 trajectory.Write(',');
                 Write(line);
-                if (form.TrySolve())
+                if (solved)
                 {
-                    estimator.CopyParametersTo(theta);
                     trajectory.Write(',');
                     Write(estimator.Intercept);
                     for (int j = 0; j < theta.Length; j++)

@@ -11,9 +11,11 @@ namespace OnlineRidge.Cli
     /// </summary>
     internal sealed class StagedFile : IDisposable
     {
-        private readonly StreamWriter writer;
+        private readonly StreamWriter? writer;
 
-        public StagedFile(string finalPath)
+        /// <param name="finalPath">Where the file ends up.</param>
+        /// <param name="open">False to only reserve the temporary path (keeping the extension) for a library that writes files itself.</param>
+        public StagedFile(string finalPath, bool open = true)
         {
             FinalPath = Path.GetFullPath(finalPath);
             string folder = Path.GetDirectoryName(FinalPath) ?? ".";
@@ -22,7 +24,12 @@ namespace OnlineRidge.Cli
                 throw new UsageException($"the output folder '{folder}' does not exist.");
             }
 
-            TempPath = Path.Combine(folder, "." + Path.GetFileName(FinalPath) + "." + Guid.NewGuid().ToString("N").Substring(0, 12) + ".tmp");
+            TempPath = Path.Combine(folder, "." + Path.GetFileName(FinalPath) + "." + Guid.NewGuid().ToString("N").Substring(0, 12) + ".tmp" + Path.GetExtension(FinalPath));
+            if (!open)
+            {
+                return;
+            }
+
             writer = new StreamWriter(new FileStream(TempPath, FileMode.CreateNew, FileAccess.Write, FileShare.None, 1 << 16), new UTF8Encoding(false), 1 << 16);
             writer.NewLine = "\n";
         }
@@ -31,20 +38,20 @@ namespace OnlineRidge.Cli
 
         public string TempPath { get; }
 
-        public TextWriter Writer => writer;
+        public TextWriter Writer => writer ?? throw new InvalidOperationException("reserved path only");
 
         public Stream BaseStream
         {
             get
             {
-                writer.Flush();
-                return writer.BaseStream;
+                Writer.Flush();
+                return writer!.BaseStream;
             }
         }
 
-        public void Close() => writer.Dispose();
+        public void Close() => writer?.Dispose();
 
-        public void Dispose() => writer.Dispose();
+        public void Dispose() => writer?.Dispose();
     }
 
     /// <summary>The set of outputs of one run: committed together at the end, or all deleted.</summary>
@@ -53,9 +60,9 @@ namespace OnlineRidge.Cli
         private readonly List<StagedFile> files = new();
         private bool committed;
 
-        public StagedFile Add(string finalPath)
+        public StagedFile Add(string finalPath, bool open = true)
         {
-            var f = new StagedFile(finalPath);
+            var f = new StagedFile(finalPath, open);
             files.Add(f);
             return f;
         }
@@ -80,6 +87,14 @@ namespace OnlineRidge.Cli
 
             foreach (var f in files)
             {
+                if (!File.Exists(f.TempPath))
+                {
+                    throw new IOException($"the output '{f.FinalPath}' was not produced.");
+                }
+            }
+
+            foreach (var f in files)
+            {
                 File.Move(f.TempPath, f.FinalPath, overwrite: true);
             }
 
@@ -98,7 +113,10 @@ namespace OnlineRidge.Cli
                 try
                 {
                     f.Close();
-                    File.Delete(f.TempPath);
+                    if (File.Exists(f.TempPath))
+                    {
+                        File.Delete(f.TempPath);
+                    }
                 }
                 catch (IOException)
                 {
