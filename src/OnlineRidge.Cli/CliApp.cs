@@ -98,12 +98,18 @@ namespace OnlineRidge.Cli
             bool batch = o.Estimator == EstimatorFactory.Batch;
             int p = model.RegressorCount;
 
+            RecursiveForm? form = batch ? null : EstimatorFactory.Create(o.Estimator, new RecursiveRequest(p, o.Forgetting, o.Penalty, o.Intercept, o.Standardize));
+            if (o.ChoosePenaltyByGcv && form is { ChooseByGcv: null })
+            {
+                throw new UsageException($"--penalty gcv is not available for --estimator {o.Estimator}; use batch or a form that offers it.");
+            }
+
             TrajectoryPlot? plot = o.PlotPath is null ? null : new TrajectoryPlot(p);
             StagedFile? plotFile = o.PlotPath is null ? null : outputs.Add(o.PlotPath, open: false);
             Sink sink = batch
                 ? new BatchSink(p)
                 : new RecursiveSink(
-                    EstimatorFactory.Create(o.Estimator, new RecursiveRequest(p, o.Forgetting, o.Penalty, o.Intercept, o.Standardize)),
+                    form!,
                     o.OutPrefix is null ? null : outputs.Add(o.OutPrefix + ".trajectory.csv"),
                     plot,
                     model.Terms,

@@ -90,7 +90,9 @@ Estimator:
   --forgetting BETA        forgetting factor β in (0, 1]: a sample k steps old carries weight β^k; effective memory is about
                            1/(1−β) samples. Default 1 (no forgetting).
   --penalty VALUE|gcv      ridge penalty λ ≥ 0 added to the diagonal of the (standardized) Gram matrix; default 0 (least squares).
-                           gcv (batch only): choose λ on a grid by generalized cross-validation, then fit with it.
+                           gcv: choose λ on a grid by generalized cross-validation, then fit with it (batch: over all
+                           rows; square-root: from the final state, with the discounted count as the number of samples;
+                           the trajectory of a recursive form is then computed with λ = 0).
   --no-standardize         penalize raw coefficients (by default the penalty acts on regressors scaled to unit deviation,
                            so it does not depend on their units).
   --no-intercept           fit no constant term (the model passes through the origin).
@@ -289,11 +291,6 @@ Exit codes: 0 success; 1 command-line mistake; 2 malformed input (the message na
             if (!o.IsArx && o.Regressors.Count == 0)
             {
                 throw new UsageException("no regressors: give --regressors A,B,... or an ARX model (--output-order NA, --input COLUMN:NB:NK).");
-            }
-
-            if (o.ChoosePenaltyByGcv && o.Estimator != "batch")
-            {
-                throw new UsageException("--penalty gcv needs --estimator batch (the criterion needs all rows at once).");
             }
 
             if (o.PlotPath is not null && o.Estimator == "batch")

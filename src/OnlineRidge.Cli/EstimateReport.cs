@@ -64,8 +64,9 @@ namespace OnlineRidge.Cli
             Penalty = fit.Penalty;
         }
 
-        public void SetRecursive(double intercept, double[] theta, double predictionErrorRms, long predictionCount, double penalty, IReadOnlyList<KeyValuePair<string, double>> extra)
+        public void SetRecursive(double intercept, double[] theta, double predictionErrorRms, long predictionCount, double penalty, IReadOnlyList<KeyValuePair<string, double>> extra, CollinearityDiagnostics? collinearity)
         {
+            Collinearity = collinearity;
             RecursiveDiagnostics = extra;
             PredictionCount = predictionCount;
             FinalIntercept = intercept;
@@ -212,17 +213,18 @@ namespace OnlineRidge.Cli
         {
             w.WriteLine(string.Format(Inv, "{0} estimate from {1} rows of {2} ({3} samples, {4} for warm-up); penalty {5:G6}{6}; forgetting factor {7:G6}", Estimator, Rows, Source, SamplesRead, WarmUpSamples, Penalty, PenaltyChoice is null ? string.Empty : " (chosen by GCV)", ForgettingFactor));
             bool ci = Fit?.StandardErrors is not null;
-            w.WriteLine(ci
-                ? string.Format(Inv, "{0,-16} {1,14} {2,12} {3,14} {4,14} {5,9}", "term", "estimate", "std.error", "lower " + Level.ToString("P0", Inv), "upper", "VIF")
-                : string.Format(Inv, "{0,-16} {1,14}", "term", "estimate"));
+            bool vif = Collinearity?.VarianceInflationFactors is not null;
+            w.WriteLine(string.Format(Inv, "{0,-16} {1,14}", "term", "estimate")
+                + (ci ? string.Format(Inv, " {0,12} {1,14} {2,14}", "std.error", "lower " + Level.ToString("P0", Inv), "upper") : string.Empty)
+                + (vif ? string.Format(Inv, " {0,9}", "VIF") : string.Empty));
             if (Intercept)
             {
-                SummaryRow(w, "(intercept)", FinalIntercept, InterceptInterval(), double.NaN, ci);
+                SummaryRow(w, "(intercept)", FinalIntercept, InterceptInterval(), double.NaN, ci, vif);
             }
 
             for (int j = 0; j < Coefficients.Length; j++)
             {
-                SummaryRow(w, Terms[j], Coefficients[j], CoefficientInterval(j), Vif(j), ci);
+                SummaryRow(w, Terms[j], Coefficients[j], CoefficientInterval(j), Vif(j), ci, vif);
             }
 
             if (Fit is { } f)
@@ -236,15 +238,11 @@ namespace OnlineRidge.Cli
             }
         }
 
-        private static void SummaryRow(TextWriter w, string term, double estimate, Interval? interval, double vif, bool ci)
+        private static void SummaryRow(TextWriter w, string term, double estimate, Interval? interval, double vif, bool ci, bool showVif)
         {
-            if (!ci)
-            {
-                w.WriteLine(string.Format(Inv, "{0,-16} {1,14:G8}", term, estimate));
-                return;
-            }
-
-            w.WriteLine(string.Format(Inv, "{0,-16} {1,14:G8} {2,12:G4} {3,14:G8} {4,14:G8} {5,9}", term, estimate, interval?.StandardError, interval?.Lower, interval?.Upper, double.IsFinite(vif) ? vif.ToString("G4", Inv) : string.Empty));
+            w.WriteLine(string.Format(Inv, "{0,-16} {1,14:G8}", term, estimate)
+                + (ci ? string.Format(Inv, " {0,12:G4} {1,14:G8} {2,14:G8}", interval?.StandardError, interval?.Lower, interval?.Upper) : string.Empty)
+                + (showVif ? string.Format(Inv, " {0,9}", double.IsFinite(vif) ? vif.ToString("G4", Inv) : string.Empty) : string.Empty));
         }
 
         public static string Num(double v) => v.ToString("R", Inv);

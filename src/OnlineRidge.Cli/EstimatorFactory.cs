@@ -25,6 +25,15 @@ namespace OnlineRidge.Cli
         public Func<bool> TrySolve { get; }
 
         public Func<IReadOnlyList<KeyValuePair<string, double>>> Diagnostics { get; }
+
+        /// <summary>Collinearity diagnostics of the (forgetting-weighted) design seen so far, from the state; null when the form cannot.</summary>
+        public Func<CollinearityDiagnostics>? Collinearity { get; init; }
+
+        /// <summary>The GCV choice of a constant penalty from the state; null when the form cannot.</summary>
+        public Func<PenaltyChoice>? ChooseByGcv { get; init; }
+
+        /// <summary>Solves for a given penalty into the coefficient buffer and returns the intercept; set together with <see cref="ChooseByGcv"/>.</summary>
+        public Func<double, double[], double>? SolveWithPenalty { get; init; }
     }
 
     /// <summary>
@@ -51,8 +60,14 @@ namespace OnlineRidge.Cli
                     new KeyValuePair<string, double>("conditionEstimate", e.ConditionEstimate),
                     new KeyValuePair<string, double>("residualSumOfSquares", e.ResidualSumOfSquares),
                     new KeyValuePair<string, double>("weightSum", e.WeightSum),
+                    new KeyValuePair<string, double>("discountedCount", e.DiscountedCount),
                     new KeyValuePair<string, double>("effectiveForgettingFactor", e.EffectiveForgettingFactor),
-                });
+                })
+                {
+                    Collinearity = r.Intercept ? () => CollinearityDiagnostics.FromState(e) : null,
+                    ChooseByGcv = () => RegularizationPath.FromState(e).ChooseByGeneralizedCrossValidation(),
+                    SolveWithPenalty = (lambda, theta) => e.SolveWithPenalty(lambda, theta),
+                };
             },
         };
 

@@ -196,8 +196,22 @@ namespace OnlineRidge.Cli
 
         public override void Finish(RidgeSettings settings, bool chooseByGcv, EstimateReport report)
         {
-            estimator.CopyParametersTo(theta); // throws RidgeBreakdownException when no solution exists
-            report.SetRecursive(estimator.Intercept, theta, errorWeight > 0 ? Math.Sqrt(squaredErrors / errorWeight) : double.NaN, errorCount, settings.Penalty, form.Diagnostics());
+            double penalty = settings.Penalty;
+            double intercept;
+            if (chooseByGcv)
+            {
+                var choice = form.ChooseByGcv!();
+                report.PenaltyChoice = choice;
+                penalty = choice.Penalty;
+                intercept = form.SolveWithPenalty!(penalty, theta);
+            }
+            else
+            {
+                estimator.CopyParametersTo(theta); // throws RidgeBreakdownException when no solution exists
+                intercept = estimator.Intercept;
+            }
+
+            report.SetRecursive(intercept, theta, errorWeight > 0 ? Math.Sqrt(squaredErrors / errorWeight) : double.NaN, errorCount, penalty, form.Diagnostics(), form.Collinearity?.Invoke());
         }
 
         private void Write(double v)
