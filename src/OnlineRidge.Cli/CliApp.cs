@@ -308,7 +308,7 @@ namespace OnlineRidge.Cli
             double fraction = total > 0 && position >= 0 ? Math.Min(1.0, (double)position / total) : 0.0;
             int filled = (int)(fraction * 30);
             double rate = rows / Math.Max(clock.Elapsed.TotalSeconds, 1e-9);
-            writer.Write(string.Format(CultureInfo.InvariantCulture, "\r{0,4:P0} [{1}{2}] {3:N0} rows, {4:N0} rows/s   ", fraction, new string('#', filled), new string('.', 30 - filled), rows, rate));
+            writer.Write(string.Format(CultureInfo.InvariantCulture, "\r{0,3:F0}% [{1}{2}] {3:N0} rows, {4:N0} rows/s   ", fraction * 100, new string('#', filled), new string('.', 30 - filled), rows, rate));
             drawn = true;
         }
 
