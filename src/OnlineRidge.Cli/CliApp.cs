@@ -161,7 +161,7 @@ namespace OnlineRidge.Cli
                 WarmUpSamples = model.WarmUpSamples,
                 Terms = model.Terms,
                 ForgettingFactor = o.Forgetting,
-                Standardize = o.Standardize,
+                Standardize = o.Standardize && (form?.Standardizes ?? true),
                 Intercept = o.Intercept,
                 Level = o.Level,
             };

@@ -86,7 +86,15 @@ Model:
 Estimator:
   --estimator NAME         one of: {string.Join(", ", estimators)} (default batch). batch solves once over all rows
                            (keeps the regressor rows in memory: 8·(p+2) bytes per row); the recursive forms update the
-                           estimate sample by sample in constant memory and write the parameter trajectory.
+                           estimate sample by sample in constant memory and write the parameter trajectory:
+                             square-root  orthogonal (Givens) updates of the data factor; the most accurate recursive form;
+                                          also offers --penalty gcv and VIFs from its final state.
+                             information  accumulated Gram statistics, solved by Cholesky when read; exact for any penalty,
+                                          loses digits like cond² (as the batch Cholesky solver).
+                             covariance   classic recursive least squares (covariance matrix update, cheapest per sample, no
+                                          solve when read); no standardization; --penalty is the initial prior weight δ
+                                          (default 1e-4), which is forgotten with the data; the intercept is a constant
+                                          regressor that the prior covers too.
   --forgetting BETA        forgetting factor β in (0, 1]: a sample k steps old carries weight β^k; effective memory is about
                            1/(1−β) samples. Default 1 (no forgetting).
   --penalty VALUE|gcv      ridge penalty λ ≥ 0 added to the diagonal of the (standardized) Gram matrix; default 0 (least squares).

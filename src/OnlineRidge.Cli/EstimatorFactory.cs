@@ -34,6 +34,64 @@ namespace OnlineRidge.Cli
 
         /// <summary>Solves for a given penalty into the coefficient buffer and returns the intercept; set together with <see cref="ChooseByGcv"/>.</summary>
         public Func<double, double[], double>? SolveWithPenalty { get; init; }
+
+        /// <summary>Whether the penalty acts on standardized coefficients in this form (false where the form has no standardization).</summary>
+        public bool Standardizes { get; init; } = true;
+    }
+
+    /// <summary>
+    /// Gives an estimator without an intercept one: appends the constant regressor 1 to every x (into a buffer allocated once) and reports
+    /// its coefficient as the intercept. The form's prior then also covers the intercept.
+    /// </summary>
+    internal sealed class ConstantColumn : IRecursiveEstimator
+    {
+        private readonly IRecursiveEstimator inner;
+        private readonly double[] x;
+        private readonly double[] theta;
+
+        public ConstantColumn(Func<int, IRecursiveEstimator> create, int parameterCount)
+        {
+            inner = create(parameterCount + 1);
+            x = new double[parameterCount + 1];
+            theta = new double[parameterCount + 1];
+            x[parameterCount] = 1.0;
+        }
+
+        public int ParameterCount => x.Length - 1;
+
+        public long SampleCount => inner.SampleCount;
+
+        public double Intercept
+        {
+            get
+            {
+                inner.CopyParametersTo(theta);
+                return theta[ParameterCount];
+            }
+        }
+
+        public void Update(ReadOnlySpan<double> regressors, double y) => Update(regressors, y, 1.0);
+
+        public void Update(ReadOnlySpan<double> regressors, double y, double weight) => inner.Update(Extend(regressors), y, weight);
+
+        public double Predict(ReadOnlySpan<double> regressors) => inner.Predict(Extend(regressors));
+
+        public void CopyParametersTo(Span<double> destination)
+        {
+            inner.CopyParametersTo(theta);
+            theta.AsSpan(0, ParameterCount).CopyTo(destination);
+        }
+
+        private double[] Extend(ReadOnlySpan<double> regressors)
+        {
+            if (regressors.Length != ParameterCount)
+            {
+                throw new ArgumentException($"x has length {regressors.Length}; expected {ParameterCount}.", nameof(regressors));
+            }
+
+            regressors.CopyTo(x);
+            return x;
+        }
     }
 
     /// <summary>
@@ -67,6 +125,42 @@ namespace OnlineRidge.Cli
                     Collinearity = r.Intercept ? () => CollinearityDiagnostics.FromState(e) : null,
                     ChooseByGcv = () => RegularizationPath.FromState(e).ChooseByGeneralizedCrossValidation(),
                     SolveWithPenalty = (lambda, theta) => e.SolveWithPenalty(lambda, theta),
+                };
+            },
+            ["information"] = r =>
+            {
+                var settings = new RidgeSettings
+                {
+                    ForgettingFactor = r.ForgettingFactor,
+                    Penalty = r.Penalty,
+                    FitIntercept = r.Intercept,
+                    Standardize = r.Standardize,
+                };
+                var e = new InformationFormEstimator(r.ParameterCount, settings, PenaltyRegime.Constant);
+                var probe = new double[r.ParameterCount];
+                return new RecursiveForm(e, () => e.TrySolve(r.Penalty, PenaltyRegime.Constant, probe, out _, out _), () => new[]
+                {
+                    new KeyValuePair<string, double>("weightSum", e.WeightSum),
+                    new KeyValuePair<string, double>("discountedCount", e.DiscountedCount),
+                });
+            },
+            ["covariance"] = r =>
+            {
+                var settings = new CovarianceFormSettings
+                {
+                    ForgettingFactor = r.ForgettingFactor,
+                    PriorWeight = r.Penalty > 0 ? r.Penalty : CovarianceFormSettings.DefaultPriorWeight,
+                };
+                CovarianceFormEstimator? inner = null;
+                IRecursiveEstimator Make(int p) => inner = new CovarianceFormEstimator(p, settings);
+                IRecursiveEstimator e = r.Intercept ? new ConstantColumn(Make, r.ParameterCount) : Make(r.ParameterCount);
+                return new RecursiveForm(e, () => true, () => new[]
+                {
+                    new KeyValuePair<string, double>("priorWeight", settings.PriorWeight),
+                    new KeyValuePair<string, double>("minimumCost", inner!.MinimumCost),
+                })
+                {
+                    Standardizes = false,
                 };
             },
         };

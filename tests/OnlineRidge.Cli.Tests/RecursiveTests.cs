@@ -149,5 +149,93 @@ namespace OnlineRidge.Cli.Tests
                 Assert.Equal(b[term][4], s[term][4], 6); // VIF
             }
         }
+
+        /// <summary>
+        /// Information form: the trajectory equals the estimator driven directly, and the final estimate equals the batch estimator with the
+        /// same settings (the form minimizes exactly the batch objective, MATH.md §5), to the digits a Cholesky solve keeps here.
+        /// </summary>
+        [Fact]
+        public void InformationFormEqualsTheLibraryAndTheBatchObjective()
+        {
+            using var h = new CliHarness();
+            var rows = Rows(300, 12);
+            string data = h.WriteCsv("d.csv", new[] { "a", "b", "y" }, rows);
+            var (exit, _, stderr) = CliHarness.Run("--data", data, "--target", "y", "--regressors", "a,b", "--estimator", "information", "--forgetting", "0.99", "--penalty", "2", "--every", "30", "--out", h.PathOf("i"));
+            Assert.True(exit == 0, stderr);
+
+            var settings = new RidgeSettings { ForgettingFactor = 0.99, Penalty = 2 };
+            var direct = new InformationFormEstimator(2, settings);
+            var lines = File.ReadAllLines(h.PathOf("i.trajectory.csv"));
+            var theta = new double[2];
+            int next = 1;
+            for (int i = 0; i < rows.Length; i++)
+            {
+                direct.Update(rows[i].AsSpan(0, 2), rows[i][2]);
+                if ((i + 1) % 30 == 0)
+                {
+                    var f = lines[next++].Split(',').Select(v => double.Parse(v, CultureInfo.InvariantCulture)).ToArray();
+                    direct.CopyParametersTo(theta);
+                    Assert.Equal(new[] { direct.Intercept, theta[0], theta[1] }, f.Skip(2).ToArray());
+                }
+            }
+
+            var fit = BatchRidge.Fit(new MatrixView(rows.SelectMany(r => r.Take(2)).ToArray(), 300, 2), rows.Select(r => r[2]).ToArray(), settings);
+            var est = CliHarness.ReadEstimateCsv(h.PathOf("i.estimate.csv"));
+            Assert.Equal(fit.Coefficients[0], est["a"][0], 9);
+            Assert.Equal(fit.Coefficients[1], est["b"][0], 9);
+            Assert.Equal(fit.Intercept, est["(intercept)"][0], 9);
+        }
+
+        /// <summary>
+        /// Covariance form with the intercept as a constant regressor: equals the estimator driven directly on [x, 1] (bit for bit) and the
+        /// batch estimator with Penalty = βⁿ·δ, no standardization and the column of ones in the design (the regime-D objective of MATH.md §1.1).
+        /// </summary>
+        [Fact]
+        public void CovarianceFormEqualsTheLibraryAndTheDecayingPriorObjective()
+        {
+            using var h = new CliHarness();
+            var rows = Rows(250, 13);
+            string data = h.WriteCsv("d.csv", new[] { "a", "b", "y" }, rows);
+            var (exit, _, stderr) = CliHarness.Run("--data", data, "--target", "y", "--regressors", "a,b", "--estimator", "covariance", "--forgetting", "0.995", "--penalty", "0.5", "--out", h.PathOf("c"));
+            Assert.True(exit == 0, stderr);
+
+            var direct = new CovarianceFormEstimator(3, new CovarianceFormSettings { ForgettingFactor = 0.995, PriorWeight = 0.5 });
+            foreach (var r in rows)
+            {
+                direct.Update(new[] { r[0], r[1], 1.0 }, r[2]);
+            }
+
+            var theta = new double[3];
+            direct.CopyParametersTo(theta);
+            var est = CliHarness.ReadEstimateCsv(h.PathOf("c.estimate.csv"));
+            Assert.Equal(theta[0], est["a"][0]);
+            Assert.Equal(theta[1], est["b"][0]);
+            Assert.Equal(theta[2], est["(intercept)"][0]);
+            Assert.False(CliHarness.ReadJson(h.PathOf("c.estimate.json")).GetProperty("standardize").GetBoolean());
+
+            var x = rows.SelectMany(r => new[] { r[0], r[1], 1.0 }).ToArray();
+            var fit = BatchRidge.Fit(new MatrixView(x, 250, 3), rows.Select(r => r[2]).ToArray(), new RidgeSettings
+            {
+                ForgettingFactor = 0.995,
+                Penalty = Math.Pow(0.995, 250) * 0.5,
+                FitIntercept = false,
+                Standardize = false,
+                Solver = RidgeSolver.Qr,
+            });
+            for (int j = 0; j < 3; j++)
+            {
+                Assert.Equal(fit.Coefficients[j], theta[j], 8);
+            }
+        }
+
+        [Fact]
+        public void GcvIsRefusedWhereTheFormCannotComputeIt()
+        {
+            using var h = new CliHarness();
+            string data = h.WriteText("d.csv", "a,y\n1,2\n2,3\n");
+            var (exit, _, stderr) = CliHarness.Run("--data", data, "--target", "y", "--regressors", "a", "--estimator", "covariance", "--penalty", "gcv");
+            Assert.Equal(CliApp.ExitUsage, exit);
+            Assert.Contains("--penalty gcv is not available for --estimator covariance", stderr, StringComparison.Ordinal);
+        }
     }
 }
