@@ -49,6 +49,12 @@ namespace OnlineRidge.Cli
                 stream?.Dispose();
                 throw new UsageException($"the data file '{path}' does not exist.");
             }
+            catch (ArgumentException e)
+            {
+                // Sep rejects a header that names a column twice.
+                stream?.Dispose();
+                throw new DataException($"{source} line 1: {e.Message}");
+            }
 
             if (reader.Header.IsEmpty)
             {
@@ -85,7 +91,7 @@ namespace OnlineRidge.Cli
         /// <summary>Reads the next row into <paramref name="values"/> (the selected columns, in order); false at the end of the file.</summary>
         public bool Next(Span<double> values)
         {
-            while (reader.MoveNext())
+            while (MoveNext())
             {
                 var row = reader.Current;
                 Line = row.LineNumberFrom;
@@ -104,7 +110,7 @@ namespace OnlineRidge.Cli
                     ReadOnlySpan<char> field = row[indices[c]].Span;
                     if (!double.TryParse(field, NumberStyles.Float, CultureInfo.InvariantCulture, out double v) || !double.IsFinite(v))
                     {
-                        throw new DataException($"{source} line {Line}, column '{names[c]}' (field {indices[c] + 1}): '{field.ToString()}' is not a finite number.");
+                        throw new DataException($"{source} line {Line}, column '{names[c]}' (field {indices[c] + 1}): '{Shown(field)}' is not a finite number.");
                     }
 
                     values[c] = v;
@@ -114,6 +120,25 @@ namespace OnlineRidge.Cli
             }
 
             return false;
+        }
+
+        /// <summary>A field as shown in a message: line breaks escaped, at most 40 characters.</summary>
+        private static string Shown(ReadOnlySpan<char> field)
+        {
+            string text = field.Length > 40 ? field.Slice(0, 40).ToString() + "…" : field.ToString();
+            return text.Replace("\r", "\\r", StringComparison.Ordinal).Replace("\n", "\\n", StringComparison.Ordinal);
+        }
+
+        private bool MoveNext()
+        {
+            try
+            {
+                return reader.MoveNext();
+            }
+            catch (InvalidDataException e)
+            {
+                throw new DataException($"{source} after line {Line}: {e.Message}");
+            }
         }
 
         public void Dispose()

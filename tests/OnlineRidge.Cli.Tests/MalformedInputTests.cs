@@ -24,6 +24,8 @@ namespace OnlineRidge.Cli.Tests
         [InlineData("a,b,y\n1,2,3\n2,1,4,5\n", "line 3: the row has 4 fields, the header has 3")]
         [InlineData("a,c,y\n1,2,3\n", "line 1: column 'b' is not in the header; the columns are: a, c, y")]
         [InlineData("", "line 1: the file is empty")]
+        [InlineData("a,a,b,y\n1,1,2,3\n", "line 1: Col name 'a' found 2 times")]
+        [InlineData("a,b,y\n1,2,\"3\n4,5,6\n", "line 2, column 'y' (field 3): '3\\n4,5,6\\n' is not a finite number")]
         public void MalformedFileExitsWithTwoNamesTheLineAndLeavesNoOutput(string text, string message)
         {
             using var h = new CliHarness();
