@@ -91,8 +91,9 @@ namespace OnlineRidge.Tests.Properties
 
         public int PositiveRows => Enumerable.Range(0, N).Count(i => Weight(i) > 0.0);
 
-        public RidgeSettings Settings(RidgeSolver solver) => new()
+        public RidgeSettings Settings(RidgeSolver solver, int refinementSteps = 3) => new()
         {
+            RefinementSteps = refinementSteps,
             Penalty = Penalty,
             ForgettingFactor = Beta,
             FitIntercept = Intercept,
