@@ -37,8 +37,11 @@ namespace OnlineRidge.Cli.Tests
             AssertNothingWritten(h, "in.csv");
         }
 
-        [Fact]
-        public void ErrorLateInARecursiveOrLongRunLeavesNoPartialFile()
+        /// <summary>A bad field after 20 000 good rows: the trajectory was already being written (recursive) and must vanish too.</summary>
+        [Theory]
+        [InlineData("batch")]
+        [InlineData("square-root")]
+        public void ErrorLateInALongRunLeavesNoPartialFile(string estimator)
         {
             using var h = new CliHarness();
             var text = new System.Text.StringBuilder("a,b,y\n");
@@ -49,7 +52,7 @@ namespace OnlineRidge.Cli.Tests
 
             text.Append("1,2,x\n");
             string data = h.WriteText("long.csv", text.ToString());
-            var (exit, _, stderr) = CliHarness.Run("--data", data, "--target", "y", "--regressors", "a,b", "--out", h.PathOf("out"));
+            var (exit, _, stderr) = CliHarness.Run("--data", data, "--target", "y", "--regressors", "a,b", "--estimator", estimator, "--every", "100", "--out", h.PathOf("out"));
             Assert.Equal(CliApp.ExitData, exit);
             Assert.Contains("line 20002, column 'y'", stderr, StringComparison.Ordinal);
             AssertNothingWritten(h, "long.csv");
