@@ -31,8 +31,8 @@ namespace OnlineRidge.Internal
         /// <summary>Rows of a Gram panel: about 32 KiB (first-level cache), between 16 and 256 rows.</summary>
         internal static int PanelRows(int ld) => Math.Max(16, Math.Min(256, 4096 / ld));
 
-        /// <summary>Rows per Householder block for c columns: 128, fewer for wide rows so a block stays within about 64 KiB.</summary>
-        internal static int QrBlockRows(int columns) => Math.Max(32, Math.Min(HouseholderAccumulator.DefaultBlockRows, 8192 / columns / 8 * 8));
+        /// <summary>Rows per Householder block for c columns: 128, fewer (down to 32) for rows wider than 512 columns so a block stays within 512 KiB.</summary>
+        internal static int QrBlockRows(int columns) => Math.Max(32, Math.Min(HouseholderAccumulator.DefaultBlockRows, 65536 / columns / 8 * 8));
 
         /// <summary>
         /// The Gram matrix of the weighted rows [z, y] in solver coordinates: (q+1)×(q+1) row-major, upper triangle (entries below the
