@@ -6,7 +6,7 @@ namespace OnlineRidge.Benchmarks
 {
     /// <summary>
     /// A regularization path of 100 penalties (one data factor, one SVD of the p×p factor, O(p²) per penalty) against one fit at a single
-    /// penalty with the SVD solver (the baseline) and with the Cholesky solver. The path without leave-one-out should cost little more than
+    /// penalty with the SVD solver (the baseline) and with the Cholesky and QR solvers. The path without leave-one-out should cost little more than
     /// the single SVD fit; leave-one-out adds one more pass over the data.
     /// </summary>
     [MemoryDiagnoser]
@@ -17,6 +17,7 @@ namespace OnlineRidge.Benchmarks
         private double[] grid = null!;
         private RidgeSettings svd = null!;
         private RidgeSettings cholesky = null!;
+        private RidgeSettings qr = null!;
 
         /// <summary>When set (by <c>--smoke</c>), one small problem per p.</summary>
         internal static bool Smoke { get; set; }
@@ -48,6 +49,7 @@ namespace OnlineRidge.Benchmarks
 
             svd = new RidgeSettings { Solver = RidgeSolver.Svd, Penalty = 1.0 };
             cholesky = new RidgeSettings { Solver = RidgeSolver.Cholesky, Penalty = 1.0 };
+            qr = new RidgeSettings { Solver = RidgeSolver.Qr, Penalty = 1.0 };
         }
 
         /// <summary>One SVD fit at penalty 1.</summary>
@@ -59,6 +61,11 @@ namespace OnlineRidge.Benchmarks
         /// <returns>The fit.</returns>
         [Benchmark]
         public RidgeFit SingleCholeskyFit() => BatchRidge.Fit(new MatrixView(problem.X, N, P), problem.Y, cholesky);
+
+        /// <summary>One QR fit at penalty 1 (the same data pass as the SVD fit, without the p×p SVD).</summary>
+        /// <returns>The fit.</returns>
+        [Benchmark]
+        public RidgeFit SingleQrFit() => BatchRidge.Fit(new MatrixView(problem.X, N, P), problem.Y, qr);
 
         /// <summary>The path over 100 penalties, coefficients, RSS, df and GCV at each, without leave-one-out.</summary>
         /// <returns>The path.</returns>
