@@ -10,10 +10,11 @@ namespace OnlineRidge
     {
         /// <param name="pr">The problem (means, scales, active columns).</param>
         /// <param name="f">Inverse factor F of the solver, Hinv = F·Fᵀ (q×q, solver coordinates).</param>
+        /// <param name="hat">S = H⁻¹G in solver coordinates (q×q), computed from the data spectrum.</param>
         /// <param name="forgetting">For β &lt; 1: the sandwich in solver coordinates (intercept first), else null.</param>
         /// <param name="model">Exact sandwich or the inverse-Hessian shortcut.</param>
         /// <returns>C, (p + ic)² row-major.</returns>
-        public static double[] Compute(BatchProblem pr, double[] f, double[]? forgetting, CovarianceModel model)
+        public static double[] Compute(BatchProblem pr, double[] f, double[] hat, double[]? forgetting, CovarianceModel model)
         {
             int p = pr.Columns;
             int q = pr.Q;
@@ -21,6 +22,48 @@ namespace OnlineRidge
             int m = p + ic;
             var cov = new double[m * m];
             double lambda = pr.Penalty;
+            if (model == CovarianceModel.Sandwich && forgetting is null && lambda > 0.0)
+            {
+                // β = 1 with a penalty: H⁻¹GH⁻¹ = S·H⁻¹ with S from the spectrum (I − λH⁻¹ would cancel once λ ≫ sⱼ²).
+                int mq0 = q + ic;
+                forgetting = new double[mq0 * mq0];
+                if (ic == 1)
+                {
+                    forgetting[0] = 1.0 / pr.WeightSum;
+                }
+
+                for (int a = 0; a < q; a++)
+                {
+                    for (int b = 0; b < q; b++)
+                    {
+                        double sum = 0.0;
+                        for (int k = 0; k < q; k++)
+                        {
+                            double hinv = 0.0;
+                            for (int t = 0; t < q; t++)
+                            {
+                                hinv += f[(k * q) + t] * f[(b * q) + t];
+                            }
+
+                            sum += hat[(a * q) + k] * hinv;
+                        }
+
+                        forgetting[((a + ic) * mq0) + b + ic] = sum;
+                    }
+                }
+
+                // Symmetrize (S·H⁻¹ is symmetric in exact arithmetic).
+                for (int a = 0; a < mq0; a++)
+                {
+                    for (int b = a + 1; b < mq0; b++)
+                    {
+                        double v = 0.5 * (forgetting[(a * mq0) + b] + forgetting[(b * mq0) + a]);
+                        forgetting[(a * mq0) + b] = v;
+                        forgetting[(b * mq0) + a] = v;
+                    }
+                }
+            }
+
             if (forgetting is not null && model == CovarianceModel.Sandwich)
             {
                 // J maps (c₀, γ) to (θ, b₀): θⱼ = γₖ/Sⱼ, b₀ = c₀ − Σ mⱼγₖ/Sⱼ.
@@ -73,8 +116,8 @@ namespace OnlineRidge
                 return cov;
             }
 
-            // β = 1 (or the inverse-Hessian model): C = L·M·Lᵀ + (1/W)·e_b₀e_b₀ᵀ, with L the rows F/Sⱼ (and −(Fᵀv)ᵀ for b₀, vₖ = mⱼ/Sⱼ), and
-            // M = I − λFᵀF for the sandwich (Hinv·G·Hinv = Hinv − λHinv²), M = I for H⁻¹. Dot products of rows keep λ = 0 exact to rounding.
+            // λ = 0 without forgetting, or the inverse-Hessian model: C = L·Lᵀ + (1/W)·e_b₀e_b₀ᵀ, with L the rows F/Sⱼ (and −(Fᵀv)ᵀ for b₀,
+            // vₖ = mⱼ/Sⱼ); dot products of rows keep the ordinary least-squares case accurate to rounding.
             var l = new double[m * q];
             for (int k = 0; k < q; k++)
             {
@@ -96,40 +139,6 @@ namespace OnlineRidge
             }
 
             double[] lm = l;
-            if (model == CovarianceModel.Sandwich && lambda > 0.0)
-            {
-                // M = I − λ FᵀF.
-                var mm = new double[q * q];
-                for (int a = 0; a < q; a++)
-                {
-                    for (int b = 0; b < q; b++)
-                    {
-                        double s = 0.0;
-                        for (int k = 0; k < q; k++)
-                        {
-                            s += f[(k * q) + a] * f[(k * q) + b];
-                        }
-
-                        mm[(a * q) + b] = (a == b ? 1.0 : 0.0) - (lambda * s);
-                    }
-                }
-
-                lm = new double[m * q];
-                for (int r = 0; r < m; r++)
-                {
-                    for (int b = 0; b < q; b++)
-                    {
-                        double s = 0.0;
-                        for (int a = 0; a < q; a++)
-                        {
-                            s += l[(r * q) + a] * mm[(a * q) + b];
-                        }
-
-                        lm[(r * q) + b] = s;
-                    }
-                }
-            }
-
             for (int r = 0; r < m; r++)
             {
                 for (int c = 0; c < m; c++)

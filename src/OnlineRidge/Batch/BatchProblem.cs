@@ -9,7 +9,7 @@ namespace OnlineRidge
     /// A validated batch problem: effective weights aᵢ = βⁿ⁻ⁱwᵢ, weighted means, column scales D, the active (non-excluded) columns and the
     /// prior in solver coordinates γ₀ = D·θ₀. Solver coordinates: zᵢⱼ = (xᵢⱼ − mⱼ)/Dⱼ over active columns, output yᵢ − m_y.
     /// </summary>
-    internal sealed class BatchProblem
+    internal sealed class BatchProblem : ISolverCoordinates
     {
         private BatchProblem(int n, int p)
         {
@@ -58,6 +58,9 @@ namespace OnlineRidge
 
         public bool Intercept { get; private set; }
 
+        /// <summary>True when the solver scale is an internal equilibration (zero penalty, no standardization), not part of the objective.</summary>
+        public bool Equilibrated { get; private set; }
+
         /// <summary>Number of active columns q.</summary>
         public int Q => Active.Length;
 
@@ -67,7 +70,7 @@ namespace OnlineRidge
             int p = x.Columns;
             if (n == 0)
             {
-                Guard.ThrowArgument(nameof(x), "x has no rows; at least one sample is needed.");
+                Guard.ThrowArgument(nameof(x), "x has 0 rows; at least one sample is needed.");
             }
 
             Guard.Length(y.Length, n, nameof(y));
@@ -129,7 +132,7 @@ namespace OnlineRidge
 
             if (!(wsum > 0.0))
             {
-                Guard.ThrowArgument(nameof(weights), "every effective sample weight is zero; at least one sample must carry weight.");
+                Guard.ThrowArgument(nameof(weights), string.Format(CultureInfo.InvariantCulture, "the effective sample weights wᵢ·βⁿ⁻¹⁻ⁱ sum to {0:R} (every one is zero); at least one sample must carry weight.", wsum));
             }
 
             pr.WeightSum = wsum;
@@ -165,6 +168,7 @@ namespace OnlineRidge
             var excluded = new List<int>();
             const double ConstantLevel = 1e3 * 2.220446049250313e-16;
             bool scaled = settings.Standardize || settings.Penalty == 0.0;
+            pr.Equilibrated = scaled && !settings.Standardize;
             var spreads = new double[scaled ? p : 0];
             if (scaled)
             {

@@ -23,6 +23,8 @@ namespace OnlineRidge
             var gamma = new double[q];
             var f = new double[q * q];        // Hinv = F·Fᵀ
             var sMatrix = new double[q * q];  // S = Hinv·G (hat matrix in parameter space)
+            var gram = new double[q * q];     // G, the data-only Gram matrix in solver coordinates (Cholesky and QR paths)
+            double[]? dataFactor = null;      // T = [[R, z], [0, ρ]] of the data (QR path)
             double cond = 1.0;
             int rank = q;
             double trS = 0.0;
@@ -37,7 +39,7 @@ namespace OnlineRidge
                 bool done = false;
                 if (settings.Solver is RidgeSolver.Cholesky or RidgeSolver.Auto)
                 {
-                    if (!TryCholesky(pr, x, y, settings, gamma, f, out cond, out BreakdownInfo bd))
+                    if (!TryCholesky(pr, x, y, settings, gamma, f, gram, out cond, out BreakdownInfo bd))
                     {
                         if (settings.Solver == RidgeSolver.Cholesky)
                         {
@@ -63,6 +65,7 @@ namespace OnlineRidge
                     else if (TryQr(pr, t, tolerance, gamma, f, out cond, out BreakdownInfo bd))
                     {
                         used = RidgeSolver.Qr;
+                        dataFactor = t;
                     }
                     else if (settings.Solver == RidgeSolver.Auto && bd.Kind == BreakdownKind.RankDeficient)
                     {
@@ -78,30 +81,7 @@ namespace OnlineRidge
 
                 if (used != RidgeSolver.Svd)
                 {
-                    // S = I − λ·Hinv, Hinv = F·Fᵀ (penalty λI in solver coordinates).
-                    double trHinv = 0.0;
-                    double frobHinv2 = 0.0;
-                    for (int i = 0; i < q; i++)
-                    {
-                        for (int j = 0; j < q; j++)
-                        {
-                            double h = 0.0;
-                            for (int k = Math.Max(i, j); k < q; k++)
-                            {
-                                h += f[(i * q) + k] * f[(j * q) + k];
-                            }
-
-                            sMatrix[(i * q) + j] = (i == j ? 1.0 : 0.0) - (lambda * h);
-                            frobHinv2 += h * h;
-                            if (i == j)
-                            {
-                                trHinv += h;
-                            }
-                        }
-                    }
-
-                    trS = q - (lambda * trHinv);
-                    trS2 = q - (2.0 * lambda * trHinv) + (lambda * lambda * frobHinv2);
+                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, f, q, lambda, pr.Beta < 1.0 || settings.Covariance == CovarianceModel.Sandwich, sMatrix, out trS, out trS2);
                 }
             }
             else
@@ -202,7 +182,7 @@ namespace OnlineRidge
                 nu = pr.DiscountedCount - (2.0 * t1) + t2;
             }
 
-            double[] unitCovariance = BatchCovariance.Compute(pr, f, cFull, settings.Covariance);
+            double[] unitCovariance = BatchCovariance.Compute(pr, f, sMatrix, cFull, settings.Covariance);
             fit = new RidgeFit(
                 theta, intercept, pr.Intercept, unitCovariance, rss, nu, rSquared, df, cond, used, rank,
                 pr.Excluded, pr.Rows, pr.WeightSum, pr.DiscountedCount, lambda, objective);
@@ -336,7 +316,7 @@ namespace OnlineRidge
         }
 
         /// <summary>Cholesky of H = G + λI from the Gram matrix of the weighted rows. F receives R⁻¹ (Hinv = F·Fᵀ).</summary>
-        private static bool TryCholesky(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y, RidgeSettings settings, double[] gamma, double[] f, out double cond, out BreakdownInfo breakdown)
+        private static bool TryCholesky(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y, RidgeSettings settings, double[] gamma, double[] f, double[] gram, out double cond, out BreakdownInfo breakdown)
         {
             int q = pr.Q;
             int c = q + 1;
@@ -349,6 +329,12 @@ namespace OnlineRidge
                 for (int k = j; k < q; k++)
                 {
                     h[(j * q) + k] = g[(j * c) + k];
+                }
+
+                for (int k = j; k < q; k++)
+                {
+                    gram[(j * q) + k] = g[(j * c) + k];
+                    gram[(k * q) + j] = g[(j * c) + k];
                 }
 
                 h[(j * q) + j] += lambda;
@@ -376,6 +362,103 @@ namespace OnlineRidge
             Triangular.InvertUpper(h, q, q, f);
             breakdown = BreakdownInfo.None;
             return true;
+        }
+
+        /// <summary>
+        /// The hat matrix in parameter space S = H⁻¹G (H = G + λI in solver coordinates, H⁻¹ = F·Fᵀ) and its traces, through the symmetric
+        /// positive semi-definite M = Fᵀ·G·F, which is similar to S: tr S = tr M = Σₖ fₖᵀGfₖ and tr S² = ‖M‖²_F are sums of non-negative
+        /// terms, S = F·(Fᵀ·G). Not as I − λ·H⁻¹: that equal form cancels catastrophically once λ ≫ sⱼ² (tr S = q − λ·tr H⁻¹ → 0 loses
+        /// its relative accuracy: p = 1, λ/s² = 7·10³ gave df wrong in the 12th digit). With λ = 0 (full rank) S = I exactly.
+        /// G is the data Gram matrix (Cholesky path) or RᵀR of the data factor (QR path). Cost about 7q³/6 multiply-adds.
+        /// </summary>
+        private static void HatMatrix(double[]? dataFactor, double[] gram, double[] f, int q, double lambda, bool needMatrix, double[] sMatrix, out double trS, out double trS2)
+        {
+            Array.Clear(sMatrix, 0, sMatrix.Length);
+            trS = 0.0;
+            trS2 = 0.0;
+            if (lambda == 0.0)
+            {
+                for (int i = 0; i < q; i++)
+                {
+                    sMatrix[(i * q) + i] = 1.0;
+                }
+
+                trS = q;
+                trS2 = q;
+                return;
+            }
+
+            if (dataFactor is not null)
+            {
+                int c = q + 1;
+                for (int i = 0; i < q; i++)
+                {
+                    for (int j = i; j < q; j++)
+                    {
+                        double g = 0.0;
+                        for (int k = 0; k <= i; k++)
+                        {
+                            g += dataFactor[(k * c) + i] * dataFactor[(k * c) + j];
+                        }
+
+                        gram[(i * q) + j] = g;
+                        gram[(j * q) + i] = g;
+                    }
+                }
+            }
+
+            // P = Fᵀ·G (F upper triangular), M = P·F.
+            var pm = new double[q * q];
+            for (int i = 0; i < q; i++)
+            {
+                for (int j = 0; j < q; j++)
+                {
+                    double v = 0.0;
+                    for (int k = 0; k <= i; k++)
+                    {
+                        v += f[(k * q) + i] * gram[(k * q) + j];
+                    }
+
+                    pm[(i * q) + j] = v;
+                }
+            }
+
+            for (int i = 0; i < q; i++)
+            {
+                for (int j = 0; j < q; j++)
+                {
+                    double v = 0.0;
+                    for (int k = 0; k <= j; k++)
+                    {
+                        v += pm[(i * q) + k] * f[(k * q) + j];
+                    }
+
+                    trS2 += v * v;
+                    if (i == j)
+                    {
+                        trS += v;
+                    }
+                }
+            }
+
+            if (!needMatrix)
+            {
+                return;
+            }
+
+            for (int i = 0; i < q; i++)
+            {
+                for (int j = 0; j < q; j++)
+                {
+                    double v = 0.0;
+                    for (int k = i; k < q; k++)
+                    {
+                        v += f[(i * q) + k] * pm[(k * q) + j];
+                    }
+
+                    sMatrix[(i * q) + j] = v;
+                }
+            }
         }
 
         /// <summary>Householder factor T = [[R, z], [0, ρ]] of the weighted rows in solver coordinates ((q+1)×(q+1), row-major).</summary>
@@ -519,6 +602,11 @@ namespace OnlineRidge
                 gamma[j] = g;
             }
 
+            if (rank < q && pr.Equilibrated)
+            {
+                RawMinimumNorm(pr, vt, rank, gamma);
+            }
+
             for (int i = 0; i < q; i++)
             {
                 for (int j = 0; j < q; j++)
@@ -535,6 +623,32 @@ namespace OnlineRidge
 
             double sq = q > 0 ? s[q - 1] : 0.0;
             cond = lambda > 0.0 ? Math.Sqrt(((s1 * s1) + lambda) / ((sq * sq) + lambda)) : (sq > 0.0 ? s1 / sq : double.PositiveInfinity);
+        }
+
+        /// <summary>
+        /// Rank-deficient SVD solution under the internal equilibration (zero penalty, no standardization): the SVD gives the solution of
+        /// minimal ‖γ − γ₀‖ in equilibrated coordinates γ = S·θ, but the minimum-norm solution promised is minimal in the raw metric
+        /// ‖θ − θ₀‖ (MATH.md §1.3). All solutions are γ + N·z with N the right singular vectors of the dropped singular values, so
+        /// z minimizes ‖S⁻¹(γ − γ₀) + S⁻¹N·z‖, a small least-squares problem (MathNet QR; S⁻¹N has full column rank). O(q·k²).
+        /// The rank test itself stays in equilibrated coordinates, where it does not depend on the units of the columns.
+        /// </summary>
+        private static void RawMinimumNorm(BatchProblem pr, Matrix<double> vt, int rank, double[] gamma)
+        {
+            int q = pr.Q;
+            int k = q - rank;
+            Matrix<double> m = Matrix<double>.Build.Dense(q, k, (j, l) => vt[rank + l, j] / pr.Scale[pr.Active[j]]);
+            Vector<double> r = Vector<double>.Build.Dense(q, j => -(gamma[j] - pr.PriorScaled[j]) / pr.Scale[pr.Active[j]]);
+            Vector<double> z = m.QR().Solve(r);
+            for (int j = 0; j < q; j++)
+            {
+                double shift = 0.0;
+                for (int l = 0; l < k; l++)
+                {
+                    shift += vt[rank + l, j] * z[l];
+                }
+
+                gamma[j] += shift;
+            }
         }
 
         /// <summary>

@@ -48,7 +48,7 @@ namespace OnlineRidge.Internal
 
         /// <summary>
         /// Spread sⱼ = √(Σ aᵢ(xᵢⱼ − mⱼ)² / W) of every column, computed as Mⱼ·√(Σ aᵢ((xᵢⱼ − mⱼ)/Mⱼ)² / W) with Mⱼ the largest |xᵢⱼ − mⱼ|
-        /// over rows of positive weight, so that it cannot overflow; 0 for a column with Mⱼ = 0.
+        /// over rows of positive weight, so that it cannot overflow (rows of zero weight are left out of both sums); 0 for a column with Mⱼ = 0.
         /// </summary>
         public static void WeightedSpreads(ReadOnlySpan<double> x, int n, int p, ReadOnlySpan<double> a, ReadOnlySpan<double> mean, double weightSum, Span<double> spread)
         {
@@ -64,7 +64,11 @@ namespace OnlineRidge.Internal
             var sum = new double[p];
             for (int i = 0; i < n; i++)
             {
-                AddWeightedSquares(sum, a[i], x.Slice(i * p, p), mean, largest);
+                // Rows of zero weight take no part: their values are not bounded by Mⱼ, and 0·∞ would be NaN.
+                if (a[i] > 0.0)
+                {
+                    AddWeightedSquares(sum, a[i], x.Slice(i * p, p), mean, largest);
+                }
             }
 
             for (int j = 0; j < p; j++)

@@ -79,8 +79,11 @@ namespace OnlineRidge.Tests.Internal
             double s = 0.0;
             for (int i = 0; i < n; i++)
             {
-                double d = (x[(i * p) + j] - m) / largest;
-                s += a[i] * d * d;
+                if (a[i] > 0.0)
+                {
+                    double d = (x[(i * p) + j] - m) / largest;
+                    s += a[i] * d * d;
+                }
             }
 
             return largest * Math.Sqrt(s / w);
