@@ -9,7 +9,7 @@ namespace OnlineRidge
     /// A validated batch problem: effective weights aᵢ = βⁿ⁻ⁱwᵢ, weighted means, column scales D, the active (non-excluded) columns and the
     /// prior in solver coordinates γ₀ = D·θ₀. Solver coordinates: zᵢⱼ = (xᵢⱼ − mⱼ)/Dⱼ over active columns, output yᵢ − m_y.
     /// </summary>
-    internal sealed class BatchProblem
+    internal sealed class BatchProblem : ISolverCoordinates
     {
         private BatchProblem(int n, int p)
         {

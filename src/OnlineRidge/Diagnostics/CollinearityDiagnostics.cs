@@ -128,6 +128,58 @@ namespace OnlineRidge
             double[] t = BatchSolver.DataFactor(pr, x, zeros);
             int q = pr.Q;
             double scale = 1.0 / Math.Sqrt(pr.WeightSum);
+            double[] unit = ScaledFactor(UncenteredFactor(x, pr), p + 1, p + 2);
+            return Build(pr.Active, pr.Excluded, q, (i, j) => t[(i * (q + 1)) + j] * scale, q, unit, Math.Max(n, p), pr.WeightSum);
+        }
+
+        /// <summary>
+        /// The diagnostics of the data a running square-root estimator with an intercept has seen, weighted by its forgetting (the recent
+        /// design), from its factor alone (MATH.md §8): Z has the singular values of R₂₂D⁻¹/√W, and the uncentered scaled indices come from the
+        /// leading (p + 1)×(p + 1) block of the factor with unit-length columns. Cost O(p³); the estimator is not changed.
+        /// </summary>
+        /// <param name="estimator">A square-root estimator built with <see cref="SquareRootSettings.FitIntercept"/> (centering needs the means).</param>
+        /// <returns>The diagnostics of its current (forgetting-weighted) design.</returns>
+        /// <exception cref="ArgumentNullException">The estimator is null.</exception>
+        /// <exception cref="InvalidOperationException">No intercept column, or no weighted sample yet.</exception>
+        public static CollinearityDiagnostics FromState(SquareRootEstimator estimator)
+        {
+            Guard.NotNull(estimator, nameof(estimator));
+            if (!estimator.Settings.FitIntercept)
+            {
+                throw new InvalidOperationException("Collinearity diagnostics of a stream need an estimator with an intercept (the centered design).");
+            }
+
+            int p = estimator.ParameterCount;
+            int c = estimator.FactorOrder;
+            var t = new double[c * c];
+            estimator.CopyFactorTo(t);
+            double r11 = t[0];
+            if (!(r11 > 0.0))
+            {
+                throw new InvalidOperationException("The estimator has no weighted samples yet.");
+            }
+
+            var sd = new double[p];
+            estimator.CopyScalesTo(sd);
+            var active = new System.Collections.Generic.List<int>(p);
+            var excluded = new System.Collections.Generic.List<int>();
+            for (int j = 0; j < p; j++)
+            {
+                (estimator.IsExcluded(j) || !(sd[j] > 0.0) ? excluded : active).Add(j);
+            }
+
+            int[] act = active.ToArray();
+            double w = estimator.WeightSum;
+            double denom = Math.Sqrt(w);
+
+            // Z = R₂₂[:, active]·D⁻¹/√W: p rows (the data block) × q columns.
+            double[] unit = ScaledFactor(t, p + 1, c);
+            return Build(act, excluded.ToArray(), p, (i, k) => t[((i + 1) * c) + act[k] + 1] / (sd[act[k]] * denom), p, unit, p + 1, w);
+        }
+
+        private static CollinearityDiagnostics Build(int[] active, int[] excluded, int rows, Func<int, int, double> z, int rankScale, double[] scaledIndices, int sizeForTolerance, double weightSum)
+        {
+            int q = active.Length;
             var s = new double[q];
             var ci = new double[q];
             double[]? vif = null;
@@ -135,14 +187,14 @@ namespace OnlineRidge
             double[]? nullDir = null;
             if (q > 0)
             {
-                var svd = Matrix<double>.Build.Dense(q, q, (i, j) => j >= i ? t[(i * (q + 1)) + j] * scale : 0.0).Svd(true);
+                var svd = Matrix<double>.Build.Dense(Math.Max(rows, q), q, (i, j) => i < rows ? z(i, j) : 0.0).Svd(true);
                 for (int k = 0; k < q; k++)
                 {
                     s[k] = svd.S[k];
                     ci[k] = s[k] > 0 ? s[0] / s[k] : double.PositiveInfinity;
                 }
 
-                double cut = Math.Max(n, p) * 2.220446049250313e-16 * s[0];
+                double cut = Math.Max(sizeForTolerance, rankScale) * 2.220446049250313e-16 * s[0];
                 if (s[q - 1] <= cut)
                 {
                     nullDir = new double[q];
@@ -174,11 +226,38 @@ namespace OnlineRidge
                 }
             }
 
-            return new CollinearityDiagnostics(pr.Active, s, ci, vif, prop, ScaledIndices(x, pr), nullDir, pr.Excluded, pr.WeightSum);
+            return new CollinearityDiagnostics(active, s, ci, vif, prop, scaledIndices, nullDir, excluded, weightSum);
         }
 
-        /// <summary>Uncentered scaled condition indices of A^½[1, X]: factor the rows, scale the factor's columns to unit length, SVD.</summary>
-        private static double[] ScaledIndices(MatrixView x, BatchProblem pr)
+        /// <summary>Condition indices of the leading m×m block of an upper-triangular factor (row stride <paramref name="stride"/>) with its columns scaled to unit length.</summary>
+        private static double[] ScaledFactor(double[] t, int m, int stride)
+        {
+            var norms = new double[m];
+            for (int j = 0; j < m; j++)
+            {
+                double sum = 0.0;
+                for (int i = 0; i <= j; i++)
+                {
+                    double v = t[(i * stride) + j];
+                    sum += v * v;
+                }
+
+                norms[j] = Math.Sqrt(sum);
+            }
+
+            var mat = Matrix<double>.Build.Dense(m, m, (i, j) => j >= i && norms[j] > 0 ? t[(i * stride) + j] / norms[j] : 0.0);
+            var sv = mat.Svd(false).S;
+            var result = new double[m];
+            for (int k = 0; k < m; k++)
+            {
+                result[k] = sv[k] > 0 ? sv[0] / sv[k] : double.PositiveInfinity;
+            }
+
+            return result;
+        }
+
+        /// <summary>The triangular factor ((p + 2)², stride p + 2, last column unused) of the weighted uncentered rows A^½[1, X].</summary>
+        private static double[] UncenteredFactor(MatrixView x, BatchProblem pr)
         {
             int n = x.Rows;
             int p = x.Columns;
@@ -206,29 +285,7 @@ namespace OnlineRidge
             }
 
             acc.Flush();
-            double[] t = acc.Factor;
-            var norms = new double[c];
-            for (int j = 0; j < c; j++)
-            {
-                double sum = 0.0;
-                for (int i = 0; i <= j; i++)
-                {
-                    double v = t[(i * (c + 1)) + j];
-                    sum += v * v;
-                }
-
-                norms[j] = Math.Sqrt(sum);
-            }
-
-            var m = Matrix<double>.Build.Dense(c, c, (i, j) => j >= i && norms[j] > 0 ? t[(i * (c + 1)) + j] / norms[j] : 0.0);
-            var sv = m.Svd(false).S;
-            var result = new double[c];
-            for (int k = 0; k < c; k++)
-            {
-                result[k] = sv[k] > 0 ? sv[0] / sv[k] : double.PositiveInfinity;
-            }
-
-            return result;
+            return acc.Factor;
         }
     }
 }

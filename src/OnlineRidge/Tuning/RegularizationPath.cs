@@ -141,6 +141,27 @@ namespace OnlineRidge
             return grid;
         }
 
+        /// <summary>
+        /// The path of a running square-root estimator from its state alone (MATH.md §7.3): the SVD of the scaled data block of its factor
+        /// gives, for every constant penalty λ of the grid, the coefficients, RSS, df and GCV with N = the discounted count Σβ̃ⁿ⁻ⁱ (so that
+        /// ancient rows of negligible weight are not counted as full rows). Leave-one-out is not available from the state (it needs past
+        /// leverages), so <see cref="LeaveOneOut"/> is null. The estimator's decaying prior weight, if any, is not part of the path: grid values
+        /// are the constant penalty. Cost O(p³) plus O(p²) per grid point; evaluate every K samples, not every step. The estimator is not changed.
+        /// </summary>
+        /// <param name="estimator">A square-root estimator with at least one weighted sample.</param>
+        /// <param name="penalties">Grid of penalties λ ≥ 0; empty for <see cref="DefaultGrid"/> of its current largest singular value.</param>
+        /// <returns>The path; its coefficients equal <see cref="SquareRootEstimator.SolveWithPenalty"/> at each grid point.</returns>
+        /// <exception cref="ArgumentNullException">The estimator is null.</exception>
+        /// <exception cref="ArgumentException">A grid value is negative or not finite.</exception>
+        /// <exception cref="InvalidOperationException">The estimator has no weighted data yet.</exception>
+        public static RegularizationPath FromState(SquareRootEstimator estimator, ReadOnlySpan<double> penalties = default)
+        {
+            Guard.NotNull(estimator, nameof(estimator));
+            CheckGrid(penalties);
+            var d = StatePath.Create(estimator, out FactorCoordinates co);
+            return Assemble(d, co, SortedGrid(d, penalties), null);
+        }
+
         /// <summary>Computes the path for the given data and settings (the settings' penalty is ignored).</summary>
         /// <param name="x">Regressors, one sample per row.</param>
         /// <param name="y">Outputs.</param>
@@ -153,6 +174,15 @@ namespace OnlineRidge
         public static RegularizationPath Compute(MatrixView x, ReadOnlySpan<double> y, RidgeSettings? settings = null, ReadOnlySpan<double> weights = default, ReadOnlySpan<double> penalties = default, bool leaveOneOut = true)
         {
             var s = (settings ?? RidgeSettings.Default).WithPenalty(1.0);
+            CheckGrid(penalties);
+            var pr = BatchProblem.Create(x, y, weights, s);
+            var d = PathDecomposition.Create(pr, x, y, s);
+            double[] grid = SortedGrid(d, penalties);
+            return Assemble(d, pr, grid, leaveOneOut ? d.LeaveOneOut(x, y, grid) : null);
+        }
+
+        private static void CheckGrid(ReadOnlySpan<double> penalties)
+        {
             for (int k = 0; k < penalties.Length; k++)
             {
                 if (!(penalties[k] >= 0.0) || double.IsInfinity(penalties[k]))
@@ -160,19 +190,27 @@ namespace OnlineRidge
                     Guard.ThrowArgument(nameof(penalties), FormattableString.Invariant($"penalties[{k}] = {penalties[k]:R} is invalid: a penalty must be a finite number >= 0."));
                 }
             }
+        }
 
-            var pr = BatchProblem.Create(x, y, weights, s);
-            var d = PathDecomposition.Create(pr, x, y, s);
+        private static double[] SortedGrid(PathDecomposition d, ReadOnlySpan<double> penalties)
+        {
             double[] grid = penalties.Length == 0 ? DefaultGrid(d.LargestSingularValue) : penalties.ToArray();
             Array.Sort(grid);
+            return grid;
+        }
+
+#pragma warning disable CA1859 // both coordinate kinds pass through here
+        private static RegularizationPath Assemble(PathDecomposition d, ISolverCoordinates co, double[] grid, double[]? looValues)
+#pragma warning restore CA1859
+        {
             int count = grid.Length;
-            int p = pr.Columns;
+            int p = co.Columns;
             var coefficients = new double[count][];
             var intercepts = new double[count];
             var rss = new double[count];
             var df = new double[count];
             var gcv = new double[count];
-            double n = pr.DiscountedCount;
+            double n = co.DiscountedCount;
             for (int k = 0; k < count; k++)
             {
                 coefficients[k] = new double[p];
@@ -181,15 +219,146 @@ namespace OnlineRidge
                 gcv[k] = denom > 0.0 ? n * rss[k] / (denom * denom) : double.PositiveInfinity;
             }
 
-            double[]? looValues = leaveOneOut ? d.LeaveOneOut(x, y, grid) : null;
             return new RegularizationPath(grid, coefficients, intercepts, rss, df, gcv, looValues, d.SingularValues, n);
         }
+    }
+
+    /// <summary>Builds the solver coordinates and the path decomposition of a square-root estimator's state.</summary>
+    internal static class StatePath
+    {
+        /// <summary>
+        /// From the factor T of A^½[1, X, y] (or [X, y]): means m = T₀,₁..ₚ/r₁₁, scales D from the column norms of the data block (when
+        /// standardizing), the active columns, and B = R_d[:, active]·D⁻¹ with target z_d and ρ = T_last,last (MATH.md §4.3, §4.5, §7.3).
+        /// </summary>
+        public static PathDecomposition Create(SquareRootEstimator estimator, out FactorCoordinates coordinates)
+        {
+            int p = estimator.ParameterCount;
+            int c = estimator.FactorOrder;
+            var settings = estimator.Settings;
+            int off = settings.FitIntercept ? 1 : 0;
+            var t = new double[c * c];
+            estimator.CopyFactorTo(t);
+            double r11 = off == 1 ? t[0] : Math.Sqrt(estimator.WeightSum);
+            if (!(r11 > 0.0))
+            {
+                throw new InvalidOperationException("The estimator has no weighted samples yet; a path needs data.");
+            }
+
+            var meanX = new double[p];
+            double meanY = 0.0;
+            if (off == 1)
+            {
+                for (int j = 0; j < p; j++)
+                {
+                    meanX[j] = t[j + 1] / r11;
+                }
+
+                meanY = t[c - 1] / r11;
+            }
+
+            var sd = new double[p];
+            estimator.CopyScalesTo(sd);
+            var active = new System.Collections.Generic.List<int>(p);
+            var scale = new double[p];
+            for (int j = 0; j < p; j++)
+            {
+                scale[j] = settings.Standardize ? sd[j] : 1.0;
+                if (!estimator.IsExcluded(j))
+                {
+                    active.Add(j);
+                }
+                else
+                {
+                    scale[j] = 1.0;
+                }
+            }
+
+            int q = active.Count;
+            var prior = new double[q];
+            if (settings.Prior is { } pr)
+            {
+                for (int k = 0; k < q; k++)
+                {
+                    prior[k] = scale[active[k]] * pr[active[k]];
+                }
+            }
+
+            coordinates = new FactorCoordinates
+            {
+                Columns = p,
+                Active = active.ToArray(),
+                Scale = scale,
+                PriorScaled = prior,
+                MeanX = meanX,
+                MeanY = meanY,
+                Intercept = off == 1,
+                DiscountedCount = estimator.DiscountedCount,
+                WeightSum = estimator.WeightSum,
+            };
+            var co = coordinates;
+            double rho = t[(c * c) - 1];
+            return PathDecomposition.FromBlock(
+                co,
+                null,
+                (i, k) => t[((i + off) * c) + co.Active[k] + off] / co.Scale[co.Active[k]],
+                i => t[((i + off) * c) + c - 1],
+                p,
+                rho * rho,
+                10.0 * (p + 1) * 2.220446049250313e-16);
+        }
+    }
+
+    /// <summary>The coordinates a solver works in: active columns, their scales, the prior in scaled units, means (with an intercept), counts.</summary>
+    internal interface ISolverCoordinates
+    {
+        int Columns { get; }
+
+        int[] Active { get; }
+
+        /// <summary>Sⱼ per raw column.</summary>
+        double[] Scale { get; }
+
+        /// <summary>γ₀ = S·θ₀ per active column.</summary>
+        double[] PriorScaled { get; }
+
+        double[] MeanX { get; }
+
+        double MeanY { get; }
+
+        bool Intercept { get; }
+
+        double DiscountedCount { get; }
+
+        double WeightSum { get; }
+    }
+
+    /// <summary>Coordinates read off a square-root estimator's factor (MATH.md §4.3).</summary>
+    internal sealed class FactorCoordinates : ISolverCoordinates
+    {
+        public int Columns { get; init; }
+
+        public int[] Active { get; init; } = Array.Empty<int>();
+
+        public double[] Scale { get; init; } = Array.Empty<double>();
+
+        public double[] PriorScaled { get; init; } = Array.Empty<double>();
+
+        public double[] MeanX { get; init; } = Array.Empty<double>();
+
+        public double MeanY { get; init; }
+
+        public bool Intercept { get; init; }
+
+        public double DiscountedCount { get; init; }
+
+        public double WeightSum { get; init; }
     }
 
     /// <summary>The SVD of a problem's data factor and the path formulas of MATH.md §1.4 and §7.2 in solver coordinates.</summary>
     internal sealed class PathDecomposition
     {
-        private readonly BatchProblem pr;
+        private readonly ISolverCoordinates pr;
+        private readonly BatchProblem? batch;
         private readonly int q;
         private readonly double[] s;
         private readonly double[] v;   // q×q row-major: v[j*q + k] = V_jk
@@ -197,10 +366,11 @@ namespace OnlineRidge
         private readonly double rho2;
         private readonly double cut;
 
-        private PathDecomposition(BatchProblem pr, double[] s, double[] v, double[] c, double rho2, double cut)
+        private PathDecomposition(ISolverCoordinates pr, BatchProblem? batch, double[] s, double[] v, double[] c, double rho2, double cut)
         {
             this.pr = pr;
-            q = pr.Q;
+            this.batch = batch;
+            q = pr.Active.Length;
             this.s = s;
             this.v = v;
             this.c = c;
@@ -217,45 +387,64 @@ namespace OnlineRidge
             double[] t = BatchSolver.DataFactor(pr, x, y);
             int q = pr.Q;
             int cols = q + 1;
+            double tolerance = settings.RankTolerance ?? (Math.Max(pr.Rows, pr.Columns) * 2.220446049250313e-16);
+            double rho = t[(q * cols) + q];
+            return FromBlock(pr, pr, (i, k) => t[(i * cols) + k], i => t[(i * cols) + q], q, rho * rho, tolerance);
+        }
+
+        /// <summary>
+        /// From a data block B (rows × q, already in solver coordinates), its target z and the residual ρ² outside the regressors:
+        /// SVD B = U S Vᵀ, c = Uᵀ(z − Bγ₀), and the part of z − Bγ₀ outside range(B) added to ρ².
+        /// </summary>
+        internal static PathDecomposition FromBlock(ISolverCoordinates co, BatchProblem? batch, Func<int, int, double> block, Func<int, double> target, int rows, double rho2, double tolerance)
+        {
+            int q = co.Active.Length;
             var s = new double[q];
             var v = new double[q * q];
             var c = new double[q];
-            if (q > 0)
+            if (q > 0 && rows > 0)
             {
-                Matrix<double> r = Matrix<double>.Build.Dense(q, q, (i, j) => j >= i ? t[(i * cols) + j] : 0.0);
-                var svd = r.Svd(true);
-                var r0 = new double[q];
-                for (int i = 0; i < q; i++)
+                Matrix<double> b = Matrix<double>.Build.Dense(Math.Max(rows, q), q, (i, k) => i < rows ? block(i, k) : 0.0);
+                var svd = b.Svd(true);
+                var r0 = new double[b.RowCount];
+                double r0Norm2 = 0.0;
+                for (int i = 0; i < rows; i++)
                 {
-                    double val = t[(i * cols) + q];
-                    for (int j = i; j < q; j++)
+                    double val = target(i);
+                    for (int k = 0; k < q; k++)
                     {
-                        val -= t[(i * cols) + j] * pr.PriorScaled[j];
+                        val -= block(i, k) * co.PriorScaled[k];
                     }
 
                     r0[i] = val;
+                    r0Norm2 += val * val;
                 }
 
+                double c2 = 0.0;
                 for (int k = 0; k < q; k++)
                 {
                     s[k] = svd.S[k];
                     double ck = 0.0;
-                    for (int i = 0; i < q; i++)
+                    for (int i = 0; i < r0.Length; i++)
                     {
                         ck += svd.U[i, k] * r0[i];
                     }
 
                     c[k] = ck;
+                    c2 += ck * ck;
                     for (int j = 0; j < q; j++)
                     {
                         v[(j * q) + k] = svd.VT[k, j];
                     }
                 }
+
+                if (rows > q)
+                {
+                    rho2 += Math.Max(0.0, r0Norm2 - c2);
+                }
             }
 
-            double rho = t[(q * cols) + q];
-            double tolerance = settings.RankTolerance ?? (Math.Max(pr.Rows, pr.Columns) * 2.220446049250313e-16);
-            return new PathDecomposition(pr, s, v, c, rho * rho, tolerance * (q > 0 ? s[0] : 0.0));
+            return new PathDecomposition(co, batch, s, v, c, rho2, tolerance * (q > 0 ? s[0] : 0.0));
         }
 
         /// <summary>Filter factor sⱼ/(sⱼ² + λ) (0 for a dropped singular value when λ = 0).</summary>
@@ -312,6 +501,7 @@ namespace OnlineRidge
         /// </summary>
         public double[] LeaveOneOut(MatrixView x, ReadOnlySpan<double> y, double[] grid)
         {
+            BatchProblem pr = batch ?? throw new InvalidOperationException("leave-one-out needs the retained data");
             int count = grid.Length;
             var press = new double[count];
             var fc = new double[count * q];

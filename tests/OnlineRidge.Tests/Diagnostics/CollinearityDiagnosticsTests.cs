@@ -160,3 +160,56 @@ namespace OnlineRidge.Tests.Diagnostics
         }
     }
 }
+
+namespace OnlineRidge.Tests.Diagnostics
+{
+    /// <summary>Diagnostics from a square-root estimator's state equal those of the batch design it has seen (MATH.md §4.3, §8).</summary>
+    public class StreamingDiagnosticsTests
+    {
+        /// <summary>
+        /// Theorem (MATH.md §4.3): R₂₂ᵀR₂₂ = M_xx, so R₂₂D⁻¹/√W has the singular values of the standardized weighted design; the leading
+        /// block of the factor has those of A^½[1, X]. Hence every diagnostic from the state equals the batch one with weights β̃ⁿ⁻ⁱwᵢ.
+        /// </summary>
+        [Property(MaxTest = 100, Replay = "(61,67)")]
+        public void DiagnosticsFromTheStateEqualTheBatchDiagnosticsOfTheSameData(int seed, byte pRaw, byte nRaw, bool forget)
+        {
+            int p = 2 + (pRaw % 8);
+            int n = p + 5 + (nRaw % 60);
+            var (x, y, w, _, _) = OnlineRidge.Tests.Tuning.RegularizationPathTests.Problem(seed, p, n, collinear: seed % 2 == 0);
+            var e = new SquareRootEstimator(p, new SquareRootSettings { ForgettingFactor = forget ? 0.97 : 1.0 });
+            for (int i = 0; i < n; i++)
+            {
+                e.Update(x.AsSpan(i * p, p), y[i], w[i]);
+            }
+
+            var s = CollinearityDiagnostics.FromState(e);
+            var b = CollinearityDiagnostics.Compute(new MatrixView(x, n, p), w, e.EffectiveForgettingFactor);
+            Assert.Equal(b.Columns, s.Columns);
+            for (int k = 0; k < b.SingularValues.Count; k++)
+            {
+                Assert.Equal(1.0, s.SingularValues[k] / b.SingularValues[k], 7);
+            }
+
+            for (int k = 0; k < b.ScaledConditionIndices.Count; k++)
+            {
+                Assert.Equal(1.0, s.ScaledConditionIndices[k] / b.ScaledConditionIndices[k], 6);
+            }
+
+            Assert.Equal(b.IsRankDeficient, s.IsRankDeficient);
+            if (!b.IsRankDeficient)
+            {
+                for (int j = 0; j < b.Columns.Count; j++)
+                {
+                    Assert.Equal(1.0, s.VarianceInflationFactors![j] / b.VarianceInflationFactors![j], 6);
+                }
+            }
+        }
+
+        [Fact]
+        public void StreamingDiagnosticsNeedAnInterceptAndData()
+        {
+            Assert.Throws<InvalidOperationException>(() => CollinearityDiagnostics.FromState(new SquareRootEstimator(2, new SquareRootSettings { FitIntercept = false })));
+            Assert.Throws<InvalidOperationException>(() => CollinearityDiagnostics.FromState(new SquareRootEstimator(2)));
+        }
+    }
+}

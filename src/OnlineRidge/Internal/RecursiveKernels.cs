@@ -1,0 +1,299 @@
+using System;
+#if NET
+using System.Numerics;
+using System.Runtime.InteropServices;
+#endif
+
+namespace OnlineRidge.Internal
+{
+    /// <summary>
+    /// Span kernels of the covariance and information forms on symmetric matrices held as a packed upper triangle: row i of an order-d
+    /// matrix starts at <see cref="RowOffset"/>(i, d) and holds the entries (i, i), (i, i+1), …, (i, d−1) contiguously, d(d+1)/2 values in all.
+    /// Every row operation is a contiguous dot product or axpy (vectorized with <c>System.Numerics.Vector</c> in the net10.0 build).
+    /// No allocation. Exact symmetry holds by construction: only one copy of each off-diagonal entry exists.
+    /// </summary>
+    internal static class RecursiveKernels
+    {
+        /// <summary>Number of values in a packed upper triangle of order d.</summary>
+        public static int PackedLength(int d) => d * (d + 1) / 2;
+
+        /// <summary>Offset of entry (i, i) in a packed upper triangle of order d.</summary>
+        public static int RowOffset(int i, int d) => (i * d) - (i * (i - 1) / 2);
+
+        /// <summary>Offset of entry (i, j), i ≤ j, in a packed upper triangle of order d.</summary>
+        public static int Index(int i, int j, int d) => RowOffset(i, d) + (j - i);
+
+        /// <summary>Entry (i, j) of the symmetric matrix, either order of indices.</summary>
+        public static double Get(ReadOnlySpan<double> packed, int d, int i, int j) =>
+            i <= j ? packed[Index(i, j, d)] : packed[Index(j, i, d)];
+
+        /// <summary>v = P·x for symmetric P (packed upper triangle, order d). d² multiply-adds.</summary>
+        public static void SymmetricMultiply(ReadOnlySpan<double> packed, int d, ReadOnlySpan<double> x, Span<double> v)
+        {
+            v.Slice(0, d).Clear();
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                int len = d - i;
+                ReadOnlySpan<double> row = packed.Slice(o, len);
+                // Row i of the upper triangle contributes (P x)_i over j ≥ i and, through symmetry, x_i·P_ij to (P x)_j for j > i.
+                v[i] += Dot(row, x.Slice(i, len));
+                if (len > 1)
+                {
+                    Axpy(x[i], row.Slice(1), v.Slice(i + 1, len - 1));
+                }
+
+                o += len;
+            }
+        }
+
+        /// <summary>P ← scale·P + coefficient·u·uᵀ on the packed upper triangle (order d). d(d+1)/2 multiply-adds (one more per entry when scale ≠ 1).</summary>
+        public static void ScaleAddRankOne(Span<double> packed, int d, double scale, double coefficient, ReadOnlySpan<double> u)
+        {
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                int len = d - i;
+                Span<double> row = packed.Slice(o, len);
+                double c = coefficient * u[i];
+                if (scale == 1.0)
+                {
+                    Axpy(c, u.Slice(i, len), row);
+                }
+                else
+                {
+                    ScaleAxpy(scale, c, u.Slice(i, len), row);
+                }
+
+                o += len;
+            }
+        }
+
+        /// <summary>packed ← scale·packed (any length).</summary>
+        public static void Scale(Span<double> values, double scale)
+        {
+            if (scale == 1.0)
+            {
+                return;
+            }
+
+            for (int i = 0; i < values.Length; i++)
+            {
+                values[i] *= scale;
+            }
+        }
+
+        /// <summary>
+        /// Symmetric covariance update (MATH.md §2.2 item 1): destination ← (source − g·v·vᵀ)/β over the upper triangle, from the computed
+        /// v = P·x only. Returns 0 when every new entry is finite and every new diagonal entry positive; otherwise a non-zero code
+        /// (1 = non-finite, 2 = non-positive diagonal) with the offending row in <paramref name="failIndex"/> and value in <paramref name="failValue"/>.
+        /// 1.5·d(d+1)/2 operations (a division per entry when β ≠ 1: division keeps the forgetting exact to rounding, a reciprocal would
+        /// bias every step in the same direction).
+        /// </summary>
+        public static int CovarianceUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, out int failIndex, out double failValue)
+        {
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                int len = d - i;
+                ReadOnlySpan<double> src = source.Slice(o, len);
+                Span<double> dst = destination.Slice(o, len);
+                src.CopyTo(dst);
+                Axpy(-g * v[i], v.Slice(i, len), dst);
+                if (beta != 1.0)
+                {
+                    Divide(dst, beta);
+                }
+
+                int code = CheckRow(dst);
+                if (code != 0)
+                {
+                    failIndex = i;
+                    failValue = dst[0];
+                    return code;
+                }
+
+                o += len;
+            }
+
+            failIndex = -1;
+            failValue = double.NaN;
+            return 0;
+        }
+
+        /// <summary>
+        /// Joseph-like covariance update (MATH.md §2.2 item 2, Bucy &amp; Joseph 1968): destination ← (source − k·vᵀ − v·kᵀ + (d/w)·k·kᵀ)/β,
+        /// upper triangle, with the computed gain k. Same return convention as <see cref="CovarianceUpdate"/>. About 2.5·d(d+1)/2 operations.
+        /// </summary>
+        public static int JosephUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, ReadOnlySpan<double> k, ReadOnlySpan<double> v, double dOverW, double beta, out int failIndex, out double failValue)
+        {
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                int len = d - i;
+                ReadOnlySpan<double> src = source.Slice(o, len);
+                Span<double> dst = destination.Slice(o, len);
+                src.CopyTo(dst);
+                Axpy(-k[i], v.Slice(i, len), dst);
+                Axpy(-v[i], k.Slice(i, len), dst);
+                Axpy(dOverW * k[i], k.Slice(i, len), dst);
+                if (beta != 1.0)
+                {
+                    Divide(dst, beta);
+                }
+
+                int code = CheckRow(dst);
+                if (code != 0)
+                {
+                    failIndex = i;
+                    failValue = dst[0];
+                    return code;
+                }
+
+                o += len;
+            }
+
+            failIndex = -1;
+            failValue = double.NaN;
+            return 0;
+        }
+
+        /// <summary>Writes the full d×d row-major matrix (both triangles) of a packed upper triangle.</summary>
+        public static void Unpack(ReadOnlySpan<double> packed, int d, Span<double> full)
+        {
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                for (int j = i; j < d; j++)
+                {
+                    double value = packed[o + (j - i)];
+                    full[(i * d) + j] = value;
+                    full[(j * d) + i] = value;
+                }
+
+                o += d - i;
+            }
+        }
+
+        /// <summary>Σ aᵢ bᵢ over the common length (a.Length ≤ b.Length).</summary>
+        public static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+        {
+            int n = a.Length;
+            int i = 0;
+            double s = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= 2 * Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> va = MemoryMarshal.Cast<double, Vector<double>>(a);
+                ReadOnlySpan<Vector<double>> vb = MemoryMarshal.Cast<double, Vector<double>>(b.Slice(0, n));
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < va.Length; k++)
+                {
+                    acc += va[k] * vb[k];
+                }
+
+                s = Vector.Sum(acc);
+                i = va.Length * Vector<double>.Count;
+            }
+#endif
+            for (; i < n; i++)
+            {
+                s += a[i] * b[i];
+            }
+
+            return s;
+        }
+
+        /// <summary>y ← y + a·x over x's length.</summary>
+        public static void Axpy(double a, ReadOnlySpan<double> x, Span<double> y)
+        {
+            int n = x.Length;
+            int i = 0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y.Slice(0, n));
+                var va = new Vector<double>(a);
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    vy[k] += va * vx[k];
+                }
+
+                i = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; i < n; i++)
+            {
+                y[i] += a * x[i];
+            }
+        }
+
+        /// <summary>y ← s·y + a·x over x's length.</summary>
+        public static void ScaleAxpy(double s, double a, ReadOnlySpan<double> x, Span<double> y)
+        {
+            int n = x.Length;
+            int i = 0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y.Slice(0, n));
+                var va = new Vector<double>(a);
+                var vs = new Vector<double>(s);
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    vy[k] = (vs * vy[k]) + (va * vx[k]);
+                }
+
+                i = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; i < n; i++)
+            {
+                y[i] = (s * y[i]) + (a * x[i]);
+            }
+        }
+
+        private static void Divide(Span<double> y, double divisor)
+        {
+            int n = y.Length;
+            int i = 0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y);
+                var vd = new Vector<double>(divisor);
+                for (int k = 0; k < vy.Length; k++)
+                {
+                    vy[k] /= vd;
+                }
+
+                i = vy.Length * Vector<double>.Count;
+            }
+#endif
+            for (; i < n; i++)
+            {
+                y[i] /= divisor;
+            }
+        }
+
+        /// <summary>0 if the row (diagonal first) is finite with a positive diagonal; 1 if an entry is not finite; 2 if the diagonal is not positive.</summary>
+        private static int CheckRow(ReadOnlySpan<double> row)
+        {
+            // 0·value is 0 for finite values and NaN for ±∞ and NaN, so one sum tests the whole row without branches and cannot overflow.
+            double probe = 0.0;
+            for (int j = 0; j < row.Length; j++)
+            {
+                probe += 0.0 * row[j];
+            }
+
+            if (probe != 0.0)
+            {
+                return 1;
+            }
+
+            return row[0] > 0.0 ? 0 : 2;
+        }
+    }
+}

@@ -1,0 +1,330 @@
+using System;
+using System.Collections.Generic;
+using OnlineRidge.Internal;
+
+namespace OnlineRidge
+{
+    /// <summary>
+    /// Classic recursive least squares in covariance form (MATH.md §2.1–2.2): keeps the parameters θₙ and the covariance Pₙ = Hₙ⁻¹ and updates
+    /// both per sample, so θ is available after every sample at no extra cost.
+    /// </summary>
+    /// <remarks>
+    /// <para><b>Objective.</b> After n updates θₙ is exactly (in exact arithmetic) the minimizer of the regime-D objective of MATH.md §1.1,
+    /// Jₙ(θ) = Σᵢ βⁿ⁻ⁱwᵢ(yᵢ − xᵢᵀθ)² + βⁿ(θ − θ₀)ᵀΓ₀(θ − θ₀), with Γ₀ = δ·I (<see cref="CovarianceFormSettings.PriorWeight"/>) or Γ₀ = P₀⁻¹
+    /// for an explicit initial covariance P₀; and Pₙ = (Σᵢ βⁿ⁻ⁱwᵢxᵢxᵢᵀ + βⁿΓ₀)⁻¹. The prior is forgotten with the data. The batch equivalent is
+    /// <see cref="BatchRidge"/> with Penalty = βⁿ·δ, Prior = θ₀, Standardize = false, FitIntercept = false. For a constant (non-decaying) ridge
+    /// penalty use <see cref="InformationFormEstimator"/>.</para>
+    /// <para><b>Intercept.</b> This form has none (<see cref="Intercept"/> is 0): append a constant regressor 1 to x; the prior then covers its
+    /// coefficient too (it is penalized by βⁿ·δ like the others, which is negligible once the data dominate).</para>
+    /// <para><b>Algorithm</b> (per sample x, y, w): v = P·x, s = xᵀv, d = β + w·s, k = (w/d)·v, e = y − xᵀθ (a-priori error),
+    /// θ ← θ + k·e, P ← (P − k·vᵀ)/β computed on the upper triangle only (or the Joseph-like form, <see cref="CovarianceUpdate"/>);
+    /// minimal cost J*ₙ = β·J*ₙ₋₁ + β·w·e²/d. A zero-weight sample only forgets: θ unchanged, P ← P/β.</para>
+    /// <para><b>Cost.</b> About 1.5·p² multiply-adds per update (2.5·p² Joseph-like), no allocation; storage p(p+1) + 4p doubles (the covariance
+    /// is double-buffered so that a failed update leaves it untouched).</para>
+    /// <para><b>Accuracy.</b> Not backward stable: the error behaves like ε·κ_path, κ_path = maxₖ cond(Hₖ) over the whole run (MATH.md §2.2
+    /// item 3, §10) — largest at the start when δ is small. Prefer the square-root or information forms for ill-conditioned data. With β &lt; 1
+    /// and poor excitation P grows geometrically (windup, MATH.md §2.3).</para>
+    /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> before any change. A data-dependent breakdown (s &lt; 0,
+    /// d ≤ 0, a non-positive diagonal of the new P, or an overflow) throws <see cref="RidgeBreakdownException"/> with
+    /// <see cref="BreakdownKind.LostDefiniteness"/> or <see cref="BreakdownKind.NonFinite"/> (or returns false from <see cref="TryUpdate"/>)
+    /// and leaves the estimator exactly as it was; re-initialize or switch to a square-root form.</para>
+    /// <para><b>Threads and reproducibility.</b> Not thread-safe (one writer; readers must synchronize). The same inputs on the same runtime and
+    /// hardware give the same bits; the last bits may differ between the net10.0 (vectorized) and netstandard2.0 builds.</para>
+    /// </remarks>
+    public sealed class CovarianceFormEstimator : IRecursiveEstimator
+    {
+        private readonly int p;
+        private readonly double beta;
+        private readonly CovarianceUpdate updateForm;
+        private readonly double[] v;
+        private readonly double[] gain;
+        private double[] covariance;
+        private double[] covarianceNext;
+        private double[] theta;
+        private double[] thetaNext;
+        private double minimumCost;
+        private double lastError = double.NaN;
+
+        /// <summary>Creates the estimator with P₀ = δ⁻¹·I (δ = <see cref="CovarianceFormSettings.PriorWeight"/>) and θ₀ from the settings.</summary>
+        /// <param name="parameterCount">Number of regressors p ≥ 1.</param>
+        /// <param name="settings">Settings; null for <see cref="CovarianceFormSettings.Default"/>.</param>
+        /// <exception cref="ArgumentException"><paramref name="parameterCount"/> below 1, or a prior whose length is not p.</exception>
+        /// <remarks>Allocates all state (O(p²)); nothing is allocated afterwards.</remarks>
+        public CovarianceFormEstimator(int parameterCount, CovarianceFormSettings? settings = null)
+            : this(parameterCount, settings ?? CovarianceFormSettings.Default, ReadOnlySpan<double>.Empty, false)
+        {
+        }
+
+        /// <summary>Creates the estimator with an explicit symmetric positive definite initial covariance P₀ (Γ₀ = P₀⁻¹); the prior weight of the settings is ignored.</summary>
+        /// <param name="parameterCount">Number of regressors p ≥ 1.</param>
+        /// <param name="settings">Settings (forgetting, prior θ₀, update form); null for the defaults.</param>
+        /// <param name="initialCovariance">P₀, p×p row-major. Entries (i, j) and (j, i) must agree to 10⁻¹² of the largest diagonal entry; the upper triangle is used.</param>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite entry, not symmetric, or not positive definite (Cholesky fails).</exception>
+        public CovarianceFormEstimator(int parameterCount, CovarianceFormSettings? settings, ReadOnlySpan<double> initialCovariance)
+            : this(parameterCount, settings ?? CovarianceFormSettings.Default, initialCovariance, true)
+        {
+        }
+
+        private CovarianceFormEstimator(int parameterCount, CovarianceFormSettings settings, ReadOnlySpan<double> initialCovariance, bool explicitCovariance)
+        {
+            if (parameterCount < 1)
+            {
+                Guard.ThrowOutOfRange(nameof(parameterCount), parameterCount, "must be >= 1");
+            }
+
+            p = parameterCount;
+            beta = settings.ForgettingFactor;
+            updateForm = settings.Update;
+            IReadOnlyList<double>? prior = settings.Prior;
+            if (prior is not null && prior.Count != p)
+            {
+                Guard.ThrowArgument(nameof(settings), FormattableString.Invariant($"settings.Prior has length {prior.Count}; expected {p} (one per regressor)."));
+            }
+
+            int packed = RecursiveKernels.PackedLength(p);
+            covariance = new double[packed];
+            covarianceNext = new double[packed];
+            theta = new double[p];
+            thetaNext = new double[p];
+            v = new double[p];
+            gain = new double[p];
+            if (prior is not null)
+            {
+                for (int j = 0; j < p; j++)
+                {
+                    theta[j] = prior[j];
+                }
+            }
+
+            if (explicitCovariance)
+            {
+                SetInitialCovariance(initialCovariance);
+            }
+            else
+            {
+                double p0 = 1.0 / settings.PriorWeight;
+                if (double.IsInfinity(p0))
+                {
+                    Guard.ThrowArgument(nameof(settings), "settings.PriorWeight is so small that its reciprocal overflows.");
+                }
+
+                for (int i = 0; i < p; i++)
+                {
+                    covariance[RecursiveKernels.RowOffset(i, p)] = p0;
+                }
+            }
+        }
+
+        /// <inheritdoc/>
+        public int ParameterCount => p;
+
+        /// <inheritdoc/>
+        public long SampleCount { get; private set; }
+
+        /// <summary>The forgetting factor β of the settings.</summary>
+        public double ForgettingFactor => beta;
+
+        /// <summary>Always 0: this form has no separate intercept (append a constant regressor instead; see the type remarks).</summary>
+        public double Intercept => 0.0;
+
+        /// <summary>
+        /// Minimal value J*ₙ = minθ Jₙ(θ) of the regime-D objective, by the recursion J*ₙ = β·J*ₙ₋₁ + β·w·e²/d, J*₀ = 0 (MATH.md §2.1).
+        /// O(1). Accuracy: relative error of order ε·κ_path (MATH.md §10).
+        /// </summary>
+        public double MinimumCost => minimumCost;
+
+        /// <summary>A-priori error e = y − xᵀθₙ₋₁ of the last accepted update (before θ was updated), NaN before the first update. The
+        /// a-posteriori error is (β/d)·e (MATH.md §2.1).</summary>
+        public double LastPriorError => lastError;
+
+        /// <inheritdoc/>
+        /// <exception cref="ArgumentException">Wrong length or a non-finite value.</exception>
+        /// <exception cref="RidgeBreakdownException">P lost positive definiteness or overflowed; the estimator is unchanged.</exception>
+        /// <remarks>O(p²), no allocation. See the type remarks.</remarks>
+        public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
+
+        /// <inheritdoc/>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite value, or a negative weight.</exception>
+        /// <exception cref="RidgeBreakdownException">P lost positive definiteness or overflowed; the estimator is unchanged.</exception>
+        /// <remarks>O(p²), no allocation. See the type remarks.</remarks>
+        public void Update(ReadOnlySpan<double> x, double y, double weight)
+        {
+            if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="Update(ReadOnlySpan{double}, double, double)"/>, but reports a data-dependent breakdown by returning false.</summary>
+        /// <param name="x">Regressor vector of length p.</param>
+        /// <param name="y">Output.</param>
+        /// <param name="weight">Sample weight, finite and ≥ 0; 0 only forgets.</param>
+        /// <param name="breakdown">What broke down (<see cref="BreakdownKind.LostDefiniteness"/> with the offending value, or
+        /// <see cref="BreakdownKind.NonFinite"/>), or <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True when the sample was accepted; false leaves the estimator exactly as it was.</returns>
+        /// <exception cref="ArgumentException">Caller mistakes, as for Update (never reported through the return value).</exception>
+        /// <remarks>O(p²), no allocation.</remarks>
+        public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
+            Guard.Length(x.Length, p, nameof(x));
+            Guard.AllFinite(x, nameof(x));
+            if (!Guard.IsFinite(y))
+            {
+                Guard.ThrowOutOfRange(nameof(y), y, "must be a finite number");
+            }
+
+            Guard.Weight(weight, nameof(weight));
+
+            double e = y - RecursiveKernels.Dot(x, theta);
+            if (!Guard.IsFinite(e))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, e, double.NaN);
+                return false;
+            }
+
+            int code;
+            int failIndex;
+            double failValue;
+            double newCost;
+            if (weight == 0.0)
+            {
+                // Pure forgetting step: θ unchanged, P ← P/β, J* ← β J*.
+                code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, 0.0, v, beta, out failIndex, out failValue);
+                newCost = beta * minimumCost;
+                theta.AsSpan().CopyTo(thetaNext);
+            }
+            else
+            {
+                RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
+                double s = RecursiveKernels.Dot(x, v);
+                double d = beta + (weight * s);
+                if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
+                {
+                    breakdown = double.IsInfinity(s) || double.IsInfinity(d) || double.IsNaN(s)
+                        ? new BreakdownInfo(BreakdownKind.NonFinite, -1, s, double.NaN)
+                        : new BreakdownInfo(BreakdownKind.LostDefiniteness, -1, s < 0.0 ? s : d, double.NaN);
+                    return false;
+                }
+
+                double g = weight / d;
+                for (int j = 0; j < p; j++)
+                {
+                    double kj = g * v[j];
+                    gain[j] = kj;
+                    thetaNext[j] = theta[j] + (kj * e);
+                }
+
+                code = updateForm == CovarianceUpdate.Symmetric
+                    ? RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, g, v, beta, out failIndex, out failValue)
+                    : RecursiveKernels.JosephUpdate(covariance, covarianceNext, p, gain, v, d / weight, beta, out failIndex, out failValue);
+                newCost = beta * (minimumCost + (weight * e * e / d));
+                if (code == 0 && !(AllFinite(thetaNext) && Guard.IsFinite(newCost)))
+                {
+                    code = 1;
+                    failIndex = -1;
+                    failValue = double.NaN;
+                }
+            }
+
+            if (code != 0)
+            {
+                breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
+                return false;
+            }
+
+            (covariance, covarianceNext) = (covarianceNext, covariance);
+            (theta, thetaNext) = (thetaNext, theta);
+            minimumCost = newCost;
+            lastError = e;
+            SampleCount++;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>Current prediction xᵀθ. O(p), no allocation.</summary>
+        /// <param name="x">Regressor vector of length p.</param>
+        /// <returns>The prediction.</returns>
+        /// <exception cref="ArgumentException">Wrong length or a non-finite entry.</exception>
+        public double Predict(ReadOnlySpan<double> x)
+        {
+            Guard.Length(x.Length, p, nameof(x));
+            Guard.AllFinite(x, nameof(x));
+            return RecursiveKernels.Dot(x, theta);
+        }
+
+        /// <summary>Writes θₙ (θ₀ before the first update) into <paramref name="destination"/>. O(p), no allocation.</summary>
+        /// <param name="destination">Buffer of length at least p.</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopyParametersTo(Span<double> destination)
+        {
+            if (destination.Length < p)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, p);
+            }
+
+            theta.AsSpan().CopyTo(destination);
+        }
+
+        /// <summary>
+        /// Writes the covariance Pₙ = Hₙ⁻¹ (p×p row-major, exactly symmetric) into <paramref name="destination"/>. O(p²), no allocation.
+        /// Pₙ is the inverse Hessian of the objective; it is a parameter covariance (times σ²) only for β = 1 (MATH.md §6.3).
+        /// </summary>
+        /// <param name="destination">Buffer of length at least p².</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopyCovarianceTo(Span<double> destination)
+        {
+            if (destination.Length < p * p)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, p * p);
+            }
+
+            RecursiveKernels.Unpack(covariance, p, destination);
+        }
+
+        private void SetInitialCovariance(ReadOnlySpan<double> p0)
+        {
+            const string Name = "initialCovariance";
+            Guard.Length(p0.Length, p * p, Name);
+            Guard.AllFinite(p0, Name);
+            double maxDiagonal = 0.0;
+            for (int i = 0; i < p; i++)
+            {
+                maxDiagonal = Math.Max(maxDiagonal, p0[(i * p) + i]);
+            }
+
+            var work = new double[p * p];
+            for (int i = 0; i < p; i++)
+            {
+                for (int j = i; j < p; j++)
+                {
+                    double upper = p0[(i * p) + j];
+                    if (Math.Abs(upper - p0[(j * p) + i]) > 1e-12 * maxDiagonal)
+                    {
+                        Guard.ThrowArgument(Name, FormattableString.Invariant($"initialCovariance is not symmetric: entries ({i}, {j}) and ({j}, {i}) differ."));
+                    }
+
+                    work[(i * p) + j] = upper;
+                    covariance[RecursiveKernels.Index(i, j, p)] = upper;
+                }
+            }
+
+            if (!Triangular.CholeskyUpper(work, p, p, out int failIndex, out double failValue))
+            {
+                Guard.ThrowArgument(Name, FormattableString.Invariant($"initialCovariance is not positive definite: Cholesky pivot {failIndex} = {failValue:R}."));
+            }
+        }
+
+        private static bool AllFinite(ReadOnlySpan<double> values)
+        {
+            for (int i = 0; i < values.Length; i++)
+            {
+                if (!Guard.IsFinite(values[i]))
+                {
+                    return false;
+                }
+            }
+
+            return true;
+        }
+    }
+}

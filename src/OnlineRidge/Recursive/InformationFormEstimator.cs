@@ -1,0 +1,769 @@
+using System;
+using System.Collections.Generic;
+using MathNet.Numerics.LinearAlgebra;
+using OnlineRidge.Internal;
+using OnlineRidge.Standardization;
+
+namespace OnlineRidge
+{
+    /// <summary>
+    /// Recursive regularized least squares in information (sufficient-statistics) form (MATH.md §5): accumulates the forgotten, weighted
+    /// Gram statistics of (x, y) — centered co-moments and means when there is an intercept (MATH.md §4.1) — and solves the ridge problem
+    /// exactly at any time, for any penalty, by Cholesky (<see cref="Solve"/>), or for a whole set of penalties from one eigendecomposition
+    /// (<see cref="SolvePenaltyPath"/>).
+    /// </summary>
+    /// <remarks>
+    /// <para><b>Objective.</b> A solve after n updates returns exactly (in exact arithmetic) what <see cref="BatchRidge"/> returns for the same
+    /// samples and the same <see cref="RidgeSettings"/>: it minimizes Σᵢ βⁿ⁻ⁱwᵢ(yᵢ − b₀ − xᵢᵀθ)² + λ(θ − θ₀)ᵀD²(θ − θ₀), with b₀ unpenalized
+    /// (when <see cref="RidgeSettings.FitIntercept"/>), D = I without standardization, and with it D = diag(σⱼ), σⱼ the weighted population
+    /// standard deviation of column j (with an intercept) or its root mean square (without), computed from the same weighted data.
+    /// With an intercept θ̂ = (M_xx + λD²)⁻¹(M_xy + λD²θ₀) (equal to θ₀ + (M_xx + λD²)⁻¹(M_xy − M_xxθ₀)) and b̂₀ = m_y − m_xᵀθ̂
+    /// (MATH.md §4.4–4.5); without, θ̂ = (G + λD²)⁻¹(b + λD²θ₀) (MATH.md §5.2); both solved by Cholesky in the coordinates γ = Dθ.
+    /// The penalty is regime C (constant, <see cref="PenaltyRegime.Constant"/>) or regime D (decaying like the data, λ·βⁿ,
+    /// <see cref="PenaltyRegime.Decaying"/>); βⁿ is computed from the update count n when solving (MATH.md §9: it underflows to 0 for
+    /// n &gt; 708/(−ln β), where the decayed penalty is negligible anyway), never accumulated step by step. With standardization and an intercept, a column whose standard
+    /// deviation is at rounding level (σⱼ ≤ 10³·ε·√(mⱼ² + σⱼ²)) is excluded (coefficient 0), as in <see cref="RidgeSettings.Standardize"/>;
+    /// without an intercept a column that is exactly zero is excluded.</para>
+    /// <para><b>Cost.</b> Update: (p+1)(p+2)/2 multiply-adds (one more per entry when β &lt; 1; twice that with the optional squared-forgetting
+    /// Gram), no allocation. Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty, allocating. Storage about
+    /// (p+1)²/2 + p² doubles. The solution behind <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
+    /// <para><b>Accuracy.</b> Limited by the squared condition: cond(G) = cond(X_w)², so the relative error of θ̂ is of order ε·cond(H)
+    /// (MATH.md §5.4) — twice the digits a square-root form loses. Centering (the intercept case) removes the damage a large mean would do.
+    /// A solve whose condition estimate of H exceeds <see cref="RidgeSettings.CholeskyConditionLimit"/> is refused
+    /// (<see cref="BreakdownKind.IllConditioned"/>). <see cref="RidgeSettings.RefinementSteps"/> does not apply (no data rows are retained).</para>
+    /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> naming the parameter before any change. A solve that breaks down
+    /// (H not numerically positive definite, ill-conditioned beyond the limit, no sample of positive weight yet — reported as
+    /// <see cref="BreakdownKind.RankDeficient"/> — or an overflow) throws <see cref="RidgeBreakdownException"/> or returns false from
+    /// <see cref="TrySolve"/>; an update that would overflow does the same. Nothing changes on failure.</para>
+    /// <para><b>Threads and reproducibility.</b> Not thread-safe, also not for concurrent reads (reads may fill the cache). Same inputs, runtime and
+    /// hardware give the same bits; the last bits may differ between the net10.0 and netstandard2.0 builds.</para>
+    /// </remarks>
+    public sealed class InformationFormEstimator : IRecursiveEstimator
+    {
+        private const double ConstantLevel = 1e3 * 2.220446049250313e-16;
+
+        private readonly int p;
+        private readonly double beta;
+        private readonly bool intercept;
+        private readonly bool standardize;
+        private readonly double penalty;
+        private readonly double conditionLimit;
+        private readonly PenaltyRegime regime;
+        private readonly RidgeSettings settings;
+        private readonly double[] prior;
+
+        // State: with an intercept the centered moments of u = (x, y); without, the packed Gram of u = (x, y) (G, b, c) and W.
+        private readonly StreamingMoments? moments;
+        private readonly double[]? gram;
+        private double gramTrace;
+        private double weightSum;
+
+        // Optional squared-forgetting Gram G₂ (MATH.md §6.2) of the regressor as the model sees it: (1, x) with an intercept, x without.
+        private readonly double[]? squaredGram;
+        private double squaredTrace;
+
+        private readonly double[] u;
+        private readonly double[] hessian;
+        private readonly double[] rhs;
+        private readonly double[] scale;
+        private readonly int[] active;
+        private readonly double[] conditionWork;
+        private readonly double[] solution;
+        private double solutionIntercept;
+        private bool solutionValid;
+
+        /// <summary>Creates an empty estimator.</summary>
+        /// <param name="parameterCount">Number of regressors p ≥ 1 (without the intercept).</param>
+        /// <param name="settings">Penalty (the default for reads), forgetting factor, intercept, standardization, prior, solver and Cholesky
+        /// condition limit, with the meaning they have for <see cref="BatchRidge"/>; null for <see cref="RidgeSettings.Default"/>. The solver must be
+        /// <see cref="RidgeSolver.Auto"/> or <see cref="RidgeSolver.Cholesky"/> (both mean Cholesky here: there are no rows for QR or SVD).</param>
+        /// <param name="regime">How the penalty ages for <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> (default: constant).</param>
+        /// <param name="trackSquaredForgettingGram">Also accumulate G₂ = Σ β²⁽ⁿ⁻ⁱ⁾wᵢ x̃ᵢx̃ᵢᵀ (x̃ = (1, x) with an intercept) for parameter
+        /// uncertainty (MATH.md §6.2–6.3); doubles the update cost.</param>
+        /// <exception cref="ArgumentException">p below 1, a prior of the wrong length, or a solver other than Auto or Cholesky.</exception>
+        public InformationFormEstimator(int parameterCount, RidgeSettings? settings = null, PenaltyRegime regime = PenaltyRegime.Constant, bool trackSquaredForgettingGram = false)
+        {
+            if (parameterCount < 1)
+            {
+                Guard.ThrowOutOfRange(nameof(parameterCount), parameterCount, "must be >= 1");
+            }
+
+            settings ??= RidgeSettings.Default;
+            if (settings.Solver is not (RidgeSolver.Auto or RidgeSolver.Cholesky))
+            {
+                Guard.ThrowArgument(nameof(settings), "settings.Solver must be Auto or Cholesky for the information form (it keeps no data rows for QR or SVD).");
+            }
+
+            if (regime is not (PenaltyRegime.Constant or PenaltyRegime.Decaying))
+            {
+                Guard.ThrowOutOfRange(nameof(regime), (double)regime, "not a PenaltyRegime member");
+            }
+
+            IReadOnlyList<double>? priorList = settings.Prior;
+            if (priorList is not null && priorList.Count != parameterCount)
+            {
+                Guard.ThrowArgument(nameof(settings), FormattableString.Invariant($"settings.Prior has length {priorList.Count}; expected {parameterCount} (one per regressor)."));
+            }
+
+            p = parameterCount;
+            this.settings = settings;
+            this.regime = regime;
+            beta = settings.ForgettingFactor;
+            intercept = settings.FitIntercept;
+            standardize = settings.Standardize;
+            penalty = settings.Penalty;
+            conditionLimit = settings.CholeskyConditionLimit;
+            prior = new double[p];
+            if (priorList is not null)
+            {
+                for (int j = 0; j < p; j++)
+                {
+                    prior[j] = priorList[j];
+                }
+            }
+
+            if (intercept)
+            {
+                moments = new StreamingMoments(p + 1, beta);
+            }
+            else
+            {
+                gram = new double[RecursiveKernels.PackedLength(p + 1)];
+            }
+
+            if (trackSquaredForgettingGram)
+            {
+                squaredGram = new double[RecursiveKernels.PackedLength(ModelDimension)];
+            }
+
+            u = new double[p + 1];
+            hessian = new double[p * p];
+            rhs = new double[p];
+            scale = new double[p];
+            active = new int[p];
+            conditionWork = new double[2 * p];
+            solution = new double[p];
+        }
+
+        /// <inheritdoc/>
+        public int ParameterCount => p;
+
+        /// <inheritdoc/>
+        public long SampleCount { get; private set; }
+
+        /// <summary>The settings given at construction.</summary>
+        public RidgeSettings Settings => settings;
+
+        /// <summary>The penalty regime of the cached solution (<see cref="CopyParametersTo"/>, <see cref="Intercept"/>, <see cref="Predict"/>).</summary>
+        public PenaltyRegime Regime => regime;
+
+        /// <summary>Total effective weight W = Σ βⁿ⁻ⁱwᵢ. O(1).</summary>
+        public double WeightSum => intercept ? moments!.WeightSum : weightSum;
+
+        /// <summary>Discounted count N = Σ βⁿ⁻ⁱ over the updates of positive weight (as <see cref="RidgeFit.DiscountedCount"/>; MATH.md §5.1, §9). O(1).</summary>
+        public double DiscountedCount { get; private set; }
+
+        /// <summary>Whether the squared-forgetting Gram G₂ is accumulated.</summary>
+        public bool TracksSquaredForgettingGram => squaredGram is not null;
+
+        /// <summary>The intercept b̂₀ of the cached solution (0 without an intercept). Solves on first use after an update (O(p³)).</summary>
+        /// <exception cref="RidgeBreakdownException">The current state cannot be solved (see the type remarks).</exception>
+        public double Intercept
+        {
+            get
+            {
+                EnsureSolved();
+                return solutionIntercept;
+            }
+        }
+
+        /// <inheritdoc/>
+        /// <exception cref="ArgumentException">Wrong length or a non-finite value.</exception>
+        /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
+        /// <remarks>O(p²), no allocation.</remarks>
+        public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
+
+        /// <inheritdoc/>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite value or a negative weight.</exception>
+        /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
+        /// <remarks>O(p²), no allocation.</remarks>
+        public void Update(ReadOnlySpan<double> x, double y, double weight)
+        {
+            if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="Update(ReadOnlySpan{double}, double, double)"/>, but reports an overflow by returning false (nothing changed).</summary>
+        /// <param name="x">Regressor vector of length p.</param>
+        /// <param name="y">Output.</param>
+        /// <param name="weight">Sample weight, finite and ≥ 0; 0 only forgets.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True when the sample was accepted.</returns>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite value or a negative weight.</exception>
+        public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
+            Guard.Length(x.Length, p, nameof(x));
+            Guard.AllFinite(x, nameof(x));
+            if (!Guard.IsFinite(y))
+            {
+                Guard.ThrowOutOfRange(nameof(y), y, "must be a finite number");
+            }
+
+            Guard.Weight(weight, nameof(weight));
+
+            x.CopyTo(u);
+            u[p] = y;
+            double newSquaredTrace = 0.0;
+            if (squaredGram is not null)
+            {
+                double norm2 = RecursiveKernels.Dot(x, x) + (intercept ? 1.0 : 0.0);
+                newSquaredTrace = (beta * beta * squaredTrace) + (weight * norm2);
+                if (!(newSquaredTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newSquaredTrace, double.NaN);
+                    return false;
+                }
+            }
+
+            if (intercept)
+            {
+                if (!moments!.TryUpdateValidated(u, weight, out breakdown))
+                {
+                    return false;
+                }
+            }
+            else
+            {
+                double newTrace = (beta * gramTrace) + (weight * RecursiveKernels.Dot(u, u));
+                if (!(newTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
+                    return false;
+                }
+
+                RecursiveKernels.ScaleAddRankOne(gram, p + 1, beta, weight, u);
+                gramTrace = newTrace;
+                weightSum = (beta * weightSum) + weight;
+            }
+
+            if (squaredGram is not null)
+            {
+                // G₂ over (1, x) or x: reuse u's storage shifted so that the model regressor is contiguous.
+                ReadOnlySpan<double> model = ModelRegressor(x);
+                RecursiveKernels.ScaleAddRankOne(squaredGram, ModelDimension, beta * beta, weight, model);
+                squaredTrace = newSquaredTrace;
+            }
+
+            DiscountedCount = (beta * DiscountedCount) + (weight > 0.0 ? 1.0 : 0.0);
+            SampleCount++;
+            solutionValid = false;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>
+        /// Solves the ridge problem of the current state for penalty <paramref name="penaltyValue"/> (λ, absolute, in the metric D of the settings)
+        /// in regime <paramref name="penaltyRegime"/>, writing θ̂ (raw units) into <paramref name="coefficients"/> and returning b̂₀. O(p³/6), no allocation.
+        /// </summary>
+        /// <param name="penaltyValue">Penalty λ ≥ 0.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying with the data (regime D: λ·βⁿ).</param>
+        /// <param name="coefficients">Buffer of length at least p.</param>
+        /// <returns>The intercept b̂₀ (0 without an intercept).</returns>
+        /// <exception cref="ArgumentException">λ negative or not finite, an unknown regime, or a short buffer.</exception>
+        /// <exception cref="RidgeBreakdownException">The problem cannot be solved (see <see cref="TrySolve"/>).</exception>
+        public double Solve(double penaltyValue, PenaltyRegime penaltyRegime, Span<double> coefficients)
+        {
+            if (!TrySolve(penaltyValue, penaltyRegime, coefficients, out double b0, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+
+            return b0;
+        }
+
+        /// <summary>As <see cref="Solve"/>, but reports a breakdown by returning false (the buffer contents are then unspecified).</summary>
+        /// <param name="penaltyValue">Penalty λ ≥ 0.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying with the data (regime D).</param>
+        /// <param name="coefficients">Buffer of length at least p for θ̂.</param>
+        /// <param name="interceptValue">b̂₀ (0 without an intercept; NaN on failure).</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.NotPositiveDefinite"/> (pivot index = regressor column),
+        /// <see cref="BreakdownKind.IllConditioned"/> (condition estimate of H above the limit), <see cref="BreakdownKind.RankDeficient"/> (no sample of
+        /// positive weight yet), <see cref="BreakdownKind.NonFinite"/>, or <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True on success.</returns>
+        /// <exception cref="ArgumentException">λ negative or not finite, an unknown regime, or a short buffer.</exception>
+        public bool TrySolve(double penaltyValue, PenaltyRegime penaltyRegime, Span<double> coefficients, out double interceptValue, out BreakdownInfo breakdown)
+        {
+            Guard.NonNegativeFinite(penaltyValue, nameof(penaltyValue));
+            if (penaltyRegime is not (PenaltyRegime.Constant or PenaltyRegime.Decaying))
+            {
+                Guard.ThrowOutOfRange(nameof(penaltyRegime), (double)penaltyRegime, "not a PenaltyRegime member");
+            }
+
+            if (coefficients.Length < p)
+            {
+                Guard.ThrowLength(nameof(coefficients), coefficients.Length, p);
+            }
+
+            double lambda = penaltyRegime == PenaltyRegime.Decaying ? penaltyValue * StreamingMoments.Decay(beta, SampleCount) : penaltyValue;
+            return SolveCore(lambda, coefficients, out interceptValue, out breakdown);
+        }
+
+        /// <summary>
+        /// Solves for many penalties at once from one symmetric eigendecomposition of the scaled Gram matrix D⁻¹M_xxD⁻¹ = VΛVᵀ (MATH.md §5.2,
+        /// the information-form analogue of the path of §1.4): for each λ, γ̂(λ) = V(Λ + λI)⁻¹Vᵀ(D⁻¹M_xy + λDθ₀), θ̂ = D⁻¹γ̂, b̂₀ = m_y − m_xᵀθ̂.
+        /// With λ = 0, eigenvalues Λⱼ ≤ max(τ², 10·q·ε)·Λ₁ (τ = <see cref="RidgeSettings.RankTolerance"/>, default 0; q active columns) count as
+        /// zero and their components are taken from the prior: the minimum-‖D(θ − θ₀)‖ solution, as the batch SVD solver gives (the Gram squares
+        /// the singular values, so singular-value ratios below about √(10qε) ≈ 10⁻⁷ cannot be resolved here).
+        /// </summary>
+        /// <param name="penalties">The penalties λ ≥ 0 (absolute, in the metric D of the settings), any order.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying (regime D: each λ is multiplied by βⁿ).</param>
+        /// <param name="coefficients">Buffer of at least penalties.Length × p values: row r (p values) receives θ̂ for penalties[r].</param>
+        /// <param name="intercepts">Buffer of at least penalties.Length values for b̂₀ (0 without an intercept).</param>
+        /// <exception cref="ArgumentException">A penalty negative or not finite, an unknown regime, or a short buffer.</exception>
+        /// <exception cref="RidgeBreakdownException">No sample of positive weight yet, or a non-finite result.</exception>
+        /// <remarks>
+        /// Cost: O(p³) for the eigendecomposition (MathNet.Numerics; allocates O(p²), not for the hot path) plus O(p²) per penalty. Accuracy as
+        /// <see cref="Solve"/> (relative error of order ε·cond(H), MATH.md §5.4), and no breakdown for an indefinite Gram: every λ &gt; 0 gives an answer.
+        /// </remarks>
+        public void SolvePenaltyPath(ReadOnlySpan<double> penalties, PenaltyRegime penaltyRegime, Span<double> coefficients, Span<double> intercepts)
+        {
+            if (!TrySolvePenaltyPath(penalties, penaltyRegime, coefficients, intercepts, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="SolvePenaltyPath"/>, but reports a breakdown by returning false (buffer contents then unspecified).</summary>
+        /// <param name="penalties">The penalties λ ≥ 0.</param>
+        /// <param name="penaltyRegime">Constant (regime C) or decaying (regime D).</param>
+        /// <param name="coefficients">Buffer of at least penalties.Length × p values.</param>
+        /// <param name="intercepts">Buffer of at least penalties.Length values.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.RankDeficient"/> (no sample of positive weight yet), <see cref="BreakdownKind.NonFinite"/>,
+        /// or <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True on success.</returns>
+        /// <exception cref="ArgumentException">A penalty negative or not finite, an unknown regime, or a short buffer.</exception>
+        public bool TrySolvePenaltyPath(ReadOnlySpan<double> penalties, PenaltyRegime penaltyRegime, Span<double> coefficients, Span<double> intercepts, out BreakdownInfo breakdown)
+        {
+            for (int r = 0; r < penalties.Length; r++)
+            {
+                if (!(penalties[r] >= 0.0) || double.IsInfinity(penalties[r]))
+                {
+                    Guard.ThrowNonFinite(nameof(penalties), r, penalties[r]);
+                }
+            }
+
+            if (penaltyRegime is not (PenaltyRegime.Constant or PenaltyRegime.Decaying))
+            {
+                Guard.ThrowOutOfRange(nameof(penaltyRegime), (double)penaltyRegime, "not a PenaltyRegime member");
+            }
+
+            if (coefficients.Length < penalties.Length * p)
+            {
+                Guard.ThrowLength(nameof(coefficients), coefficients.Length, penalties.Length * p);
+            }
+
+            if (intercepts.Length < penalties.Length)
+            {
+                Guard.ThrowLength(nameof(intercepts), intercepts.Length, penalties.Length);
+            }
+
+            double w = WeightSum;
+            if (!(w > 0.0))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.RankDeficient, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            int d = p + 1;
+            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
+            int q = SelectColumns(m, w, means);
+            double decay = penaltyRegime == PenaltyRegime.Decaying ? StreamingMoments.Decay(beta, SampleCount) : 1.0;
+
+            var h = Matrix<double>.Build.Dense(q, q);
+            var c1 = Vector<double>.Build.Dense(q);
+            var g0 = Vector<double>.Build.Dense(q);
+            for (int k = 0; k < q; k++)
+            {
+                int a = active[k];
+                for (int l = 0; l < q; l++)
+                {
+                    h[k, l] = RecursiveKernels.Get(m, d, a, active[l]) / (scale[a] * scale[active[l]]);
+                }
+
+                c1[k] = RecursiveKernels.Get(m, d, a, p) / scale[a];
+                g0[k] = scale[a] * prior[a];
+            }
+
+            double[] eigenvalues = new double[q];
+            Vector<double> vc = c1;
+            Vector<double> vg = g0;
+            Matrix<double>? v = null;
+            if (q > 0)
+            {
+                var evd = h.Evd(Symmetricity.Symmetric);
+                v = evd.EigenVectors;
+                for (int k = 0; k < q; k++)
+                {
+                    eigenvalues[k] = evd.EigenValues[k].Real;
+                }
+
+                vc = v.TransposeThisAndMultiply(c1);
+                vg = v.TransposeThisAndMultiply(g0);
+            }
+
+            double largest = 0.0;
+            for (int k = 0; k < q; k++)
+            {
+                largest = Math.Max(largest, eigenvalues[k]);
+            }
+
+            double tau = settings.RankTolerance ?? 0.0;
+            double cutoff = Math.Max(tau * tau, 10.0 * q * 2.220446049250313e-16) * largest;
+            var z = Vector<double>.Build.Dense(q);
+            for (int r = 0; r < penalties.Length; r++)
+            {
+                double lambda = penalties[r] * decay;
+                for (int k = 0; k < q; k++)
+                {
+                    double ev = Math.Max(eigenvalues[k], 0.0);
+                    z[k] = lambda == 0.0
+                        ? (ev <= cutoff ? vg[k] : vc[k] / ev)
+                        : (vc[k] + (lambda * vg[k])) / (ev + lambda);
+                }
+
+                Span<double> theta = coefficients.Slice(r * p, p);
+                theta.Clear();
+                if (q > 0)
+                {
+                    Vector<double> gamma = v! * z;
+                    for (int k = 0; k < q; k++)
+                    {
+                        theta[active[k]] = gamma[k] / scale[active[k]];
+                    }
+                }
+
+                double b0 = 0.0;
+                if (intercept)
+                {
+                    b0 = means[p];
+                    for (int j = 0; j < p; j++)
+                    {
+                        b0 -= means[j] * theta[j];
+                    }
+                }
+
+                for (int j = 0; j < p; j++)
+                {
+                    if (!Guard.IsFinite(theta[j]))
+                    {
+                        breakdown = new BreakdownInfo(BreakdownKind.NonFinite, j, theta[j], double.NaN);
+                        return false;
+                    }
+                }
+
+                if (!Guard.IsFinite(b0))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, b0, double.NaN);
+                    return false;
+                }
+
+                intercepts[r] = b0;
+            }
+
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>Writes θ̂ of the cached solution (settings penalty and <see cref="Regime"/>) into <paramref name="destination"/>; solves on first use after an update.</summary>
+        /// <param name="destination">Buffer of length at least p.</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        /// <exception cref="RidgeBreakdownException">The current state cannot be solved.</exception>
+        /// <remarks>O(p) when cached, O(p³/6) otherwise; no allocation.</remarks>
+        public void CopyParametersTo(Span<double> destination)
+        {
+            if (destination.Length < p)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, p);
+            }
+
+            EnsureSolved();
+            solution.AsSpan().CopyTo(destination);
+        }
+
+        /// <summary>Prediction b̂₀ + xᵀθ̂ of the cached solution. O(p) when cached, no allocation.</summary>
+        /// <param name="x">Regressor vector of length p.</param>
+        /// <returns>The prediction.</returns>
+        /// <exception cref="ArgumentException">Wrong length or a non-finite entry.</exception>
+        /// <exception cref="RidgeBreakdownException">The current state cannot be solved.</exception>
+        public double Predict(ReadOnlySpan<double> x)
+        {
+            Guard.Length(x.Length, p, nameof(x));
+            Guard.AllFinite(x, nameof(x));
+            EnsureSolved();
+            return solutionIntercept + RecursiveKernels.Dot(x, solution);
+        }
+
+        /// <summary>
+        /// Writes the squared-forgetting Gram G₂ = Σ β²⁽ⁿ⁻ⁱ⁾wᵢ x̃ᵢx̃ᵢᵀ (x̃ = (1, x) with an intercept, so (p+1)² values; x without, p² values;
+        /// row-major, exactly symmetric) into <paramref name="destination"/> (MATH.md §6.2). O(p²), no allocation.
+        /// </summary>
+        /// <param name="destination">Buffer of length at least d², d = p + 1 with an intercept, p without.</param>
+        /// <exception cref="InvalidOperationException">The estimator was created without tracking G₂.</exception>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopySquaredForgettingGramTo(Span<double> destination)
+        {
+            if (squaredGram is null)
+            {
+                throw new InvalidOperationException("The estimator was created with trackSquaredForgettingGram = false.");
+            }
+
+            int d = ModelDimension;
+            if (destination.Length < d * d)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, d * d);
+            }
+
+            RecursiveKernels.Unpack(squaredGram, d, destination);
+        }
+
+        /// <summary>
+        /// Merges <paramref name="later"/> into this estimator (MATH.md §5.3): this one holds the earlier samples, <paramref name="later"/> the
+        /// k = later.SampleCount steps after them. G = β^k·G_A + G_B (likewise b, c, W, N; G₂ with β^(2k); Chan–Golub–LeVeque for the centered
+        /// moments, MATH.md §4.2); the sample counts add, so the regime-D decay is β^(n_A + n_B). The result equals (to rounding) one estimator fed
+        /// both streams in order. The prior and penalty of this estimator's settings apply. <paramref name="later"/> is not changed (it may be this object).
+        /// O(p²), no allocation.
+        /// </summary>
+        /// <param name="later">Estimator of the later samples, with the same p, forgetting factor, intercept setting and G₂ tracking.</param>
+        /// <exception cref="ArgumentNullException"><paramref name="later"/> is null.</exception>
+        /// <exception cref="ArgumentException">The estimators are not compatible.</exception>
+        /// <exception cref="RidgeBreakdownException">The merge would overflow; nothing changed.</exception>
+        public void MergeFrom(InformationFormEstimator later)
+        {
+            if (!TryMergeFrom(later, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="MergeFrom"/>, but reports an overflow by returning false (nothing changed).</summary>
+        /// <param name="later">Estimator of the later samples.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True on success.</returns>
+        /// <exception cref="ArgumentNullException"><paramref name="later"/> is null.</exception>
+        /// <exception cref="ArgumentException">The estimators are not compatible.</exception>
+        public bool TryMergeFrom(InformationFormEstimator later, out BreakdownInfo breakdown)
+        {
+            Guard.NotNull(later, nameof(later));
+            if (later.p != p || later.beta != beta || later.intercept != intercept || (later.squaredGram is null) != (squaredGram is null))
+            {
+                Guard.ThrowArgument(nameof(later), "later must have the same number of regressors, forgetting factor, intercept setting and squared-forgetting tracking.");
+            }
+
+            double age = StreamingMoments.Decay(beta, later.SampleCount);
+            double newSquaredTrace = 0.0;
+            if (squaredGram is not null)
+            {
+                newSquaredTrace = (age * age * squaredTrace) + later.squaredTrace;
+                if (!(newSquaredTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newSquaredTrace, double.NaN);
+                    return false;
+                }
+            }
+
+            if (intercept)
+            {
+                if (!moments!.TryMergeFrom(later.moments!, out breakdown))
+                {
+                    return false;
+                }
+            }
+            else
+            {
+                double newTrace = (age * gramTrace) + later.gramTrace;
+                if (!(newTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
+                    return false;
+                }
+
+                AgeAndAdd(gram!, age, later.gram!);
+                gramTrace = newTrace;
+                weightSum = (age * weightSum) + later.weightSum;
+            }
+
+            if (squaredGram is not null)
+            {
+                AgeAndAdd(squaredGram, age * age, later.squaredGram!);
+                squaredTrace = newSquaredTrace;
+            }
+
+            DiscountedCount = (age * DiscountedCount) + later.DiscountedCount;
+            SampleCount += later.SampleCount;
+            solutionValid = false;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        private const double OverflowLevel = double.MaxValue / 4.0;
+
+        private int ModelDimension => intercept ? p + 1 : p;
+
+        /// <summary>The model regressor (1, x) or x, laid out in the scratch vector (overwrites u; call after the state update).</summary>
+        private ReadOnlySpan<double> ModelRegressor(ReadOnlySpan<double> x)
+        {
+            if (!intercept)
+            {
+                return x;
+            }
+
+            u[0] = 1.0;
+            x.CopyTo(u.AsSpan(1));
+            return u;
+        }
+
+        private static void AgeAndAdd(double[] target, double age, double[] source)
+        {
+            for (int i = 0; i < target.Length; i++)
+            {
+                target[i] = (age * target[i]) + source[i];
+            }
+        }
+
+        private void EnsureSolved()
+        {
+            if (solutionValid)
+            {
+                return;
+            }
+
+            double lambda = regime == PenaltyRegime.Decaying ? penalty * StreamingMoments.Decay(beta, SampleCount) : penalty;
+            if (!SolveCore(lambda, solution, out double b0, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+
+            solutionIntercept = b0;
+            solutionValid = true;
+        }
+
+        /// <summary>Fills scale (D) and active (non-excluded columns) per the standardization rule; returns the number of active columns.</summary>
+        private int SelectColumns(ReadOnlySpan<double> m, double w, ReadOnlySpan<double> means)
+        {
+            int d = p + 1;
+            int q = 0;
+            for (int j = 0; j < p; j++)
+            {
+                double s = 1.0;
+                bool exclude = false;
+                if (standardize)
+                {
+                    s = Math.Sqrt(m[RecursiveKernels.RowOffset(j, d)] / w);
+                    exclude = intercept
+                        ? s <= ConstantLevel * Math.Sqrt((means[j] * means[j]) + (s * s))
+                        : s == 0.0;
+                }
+
+                scale[j] = s;
+                if (!exclude)
+                {
+                    active[q++] = j;
+                }
+            }
+
+            return q;
+        }
+
+        /// <summary>The solve of MATH.md §4.4–4.5 / §5.2 in scaled coordinates γ = Dθ over the active columns.</summary>
+        private bool SolveCore(double lambda, Span<double> theta, out double b0, out BreakdownInfo breakdown)
+        {
+            int d = p + 1;
+            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            double w = WeightSum;
+            b0 = double.NaN;
+            if (!(w > 0.0))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.RankDeficient, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
+            int q = SelectColumns(m, w, means);
+
+            // H = D⁻¹ M_xx D⁻¹ + λI (upper triangle), r = D⁻¹M_xy + λ·Dθ₀ over the active columns, then H·γ = r and θ = D⁻¹γ.
+            // The prior enters only through λ·Dθ₀ (MATH.md §5.2 form H⁻¹(b + Γθ₀)); expanding about θ₀ instead, θ₀ + H⁻¹(M_xy − M_xxθ₀),
+            // would cancel catastrophically when the prior is far from the solution and λ is small.
+            for (int k = 0; k < q; k++)
+            {
+                int a = active[k];
+                double sa = scale[a];
+                int row = k * q;
+                for (int l = k; l < q; l++)
+                {
+                    int c = active[l];
+                    hessian[row + l] = RecursiveKernels.Get(m, d, a, c) / (sa * scale[c]);
+                }
+
+                hessian[row + k] += lambda;
+                rhs[k] = (RecursiveKernels.Get(m, d, a, p) / sa) + (lambda * (sa * prior[a]));
+            }
+
+            if (!Triangular.CholeskyUpper(hessian, q, q, out int failIndex, out double failValue))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NotPositiveDefinite, active[failIndex], failValue, double.NaN);
+                return false;
+            }
+
+            double cond = Triangular.ConditionEstimate(hessian, q, q, conditionWork);
+            double condH = cond * cond;
+            if (!(condH <= conditionLimit))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.IllConditioned, -1, double.NaN, condH);
+                return false;
+            }
+
+            Span<double> step = rhs.AsSpan(0, q);
+            Triangular.SolveUpperTransposed(hessian, q, q, step);
+            Triangular.SolveUpper(hessian, q, q, step);
+
+            theta.Slice(0, p).Clear();
+            for (int k = 0; k < q; k++)
+            {
+                int a = active[k];
+                theta[a] = step[k] / scale[a];
+            }
+
+            double b = 0.0;
+            if (intercept)
+            {
+                b = means[p];
+                for (int j = 0; j < p; j++)
+                {
+                    b -= means[j] * theta[j];
+                }
+            }
+
+            for (int j = 0; j < p; j++)
+            {
+                if (!Guard.IsFinite(theta[j]))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, j, theta[j], condH);
+                    return false;
+                }
+            }
+
+            if (!Guard.IsFinite(b))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, b, condH);
+                return false;
+            }
+
+            b0 = b;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+    }
+}

@@ -1,0 +1,343 @@
+using System;
+using OnlineRidge.Internal;
+
+namespace OnlineRidge.Standardization
+{
+    /// <summary>
+    /// Exponentially weighted mean vector and centered co-moment matrix of a stream of vectors u (MATH.md §4.1–4.2): with effective weights
+    /// aᵢ = βⁿ⁻ⁱwᵢ, W = Σ aᵢ, m = Σ aᵢuᵢ / W, M = Σ aᵢ(uᵢ − m)(uᵢ − m)ᵀ, and the population standard deviations σⱼ = √(Mⱼⱼ / W).
+    /// Usable alone (streaming standardization, monitoring) and the state behind the intercept of <see cref="InformationFormEstimator"/>.
+    /// </summary>
+    /// <remarks>
+    /// <para><b>Algorithm.</b> West's (1979) update with forgetting: W ← βW + w, δ = u − m, m ← m + (w/W)·δ,
+    /// M ← βM + (w·β·W_old/W)·δδᵀ (upper triangle only, so M is exactly symmetric). Merging uses the pairwise formula of Chan, Golub &amp;
+    /// LeVeque (1979, 1983). The centered form never forms Σ aᵢuᵢuᵢᵀ, so it does not suffer the cancellation of the textbook one-pass formula:
+    /// the error is of order ε relative to M itself, not to Σ aᵢuᵢ² (a large mean costs nothing).</para>
+    /// <para><b>Warm-up.</b> Until a sample of positive weight arrives (W = 0) the means, variances and standard deviations are NaN (undefined)
+    /// and the co-moments 0. After one such sample the means equal it and the variances are 0 (population variance of one point; no W − 1
+    /// divisor is ever used). A component that has been exactly constant since the start has mean exactly that constant and variance exactly 0.
+    /// Samples of weight 0 only forget (W and M are multiplied by β, the means are unchanged).</para>
+    /// <para><b>Cost.</b> d(d+1)/2 + O(d) multiply-adds per update (one more per entry when β &lt; 1), no allocation; storage d(d+1)/2 + 2d doubles.
+    /// Merge O(d²).</para>
+    /// <para><b>Failures.</b> Wrong length, non-finite values or a negative weight throw <see cref="ArgumentException"/> before any change. An
+    /// update that would overflow throws <see cref="RidgeBreakdownException"/> (<see cref="BreakdownKind.NonFinite"/>; or false from
+    /// <see cref="TryUpdate"/>) and changes nothing.</para>
+    /// <para><b>Threads and reproducibility.</b> Not thread-safe (one writer; readers must synchronize). Same inputs, runtime and hardware give the
+    /// same bits; the last bits may differ between the net10.0 and netstandard2.0 builds.</para>
+    /// </remarks>
+    public sealed class StreamingMoments
+    {
+        private readonly int d;
+        private readonly double beta;
+        private readonly double[] mean;
+        private readonly double[] comoment;
+        private readonly double[] delta;
+        private double weightSum;
+        private double trace;
+
+        /// <summary>Creates an empty state for vectors of length <paramref name="dimension"/>.</summary>
+        /// <param name="dimension">Length d ≥ 1 of every vector.</param>
+        /// <param name="forgettingFactor">Forgetting factor β in (0, 1]; 1 (default) means none.</param>
+        /// <exception cref="ArgumentOutOfRangeException">d below 1, or β outside (0, 1].</exception>
+        public StreamingMoments(int dimension, double forgettingFactor = 1.0)
+        {
+            if (dimension < 1)
+            {
+                Guard.ThrowOutOfRange(nameof(dimension), dimension, "must be >= 1");
+            }
+
+            Guard.ForgettingFactor(forgettingFactor, nameof(forgettingFactor));
+            d = dimension;
+            beta = forgettingFactor;
+            mean = new double[d];
+            comoment = new double[RecursiveKernels.PackedLength(d)];
+            delta = new double[d];
+        }
+
+        /// <summary>Length d of the vectors.</summary>
+        public int Dimension => d;
+
+        /// <summary>The forgetting factor β.</summary>
+        public double ForgettingFactor => beta;
+
+        /// <summary>Number of updates so far, including zero-weight updates (after a merge: the sum of both counts).</summary>
+        public long SampleCount { get; private set; }
+
+        /// <summary>Total effective weight W = Σ βⁿ⁻ⁱwᵢ (MATH.md §4.1, §9).</summary>
+        public double WeightSum => weightSum;
+
+        /// <summary>The means as stored (0 while W = 0), packed co-moment, for the estimators.</summary>
+        internal ReadOnlySpan<double> RawMeans => mean;
+
+        internal ReadOnlySpan<double> PackedComoment => comoment;
+
+        /// <summary>Adds the vector <paramref name="u"/> with weight 1. O(d²), no allocation.</summary>
+        /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
+        /// <exception cref="ArgumentException">Wrong length or a non-finite entry.</exception>
+        /// <exception cref="RidgeBreakdownException">The update would overflow; nothing changed.</exception>
+        public void Update(ReadOnlySpan<double> u) => Update(u, 1.0);
+
+        /// <summary>Adds the vector <paramref name="u"/> with weight <paramref name="weight"/> (0 only forgets). O(d²), no allocation.</summary>
+        /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
+        /// <param name="weight">Weight, finite and ≥ 0.</param>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite entry or a negative weight.</exception>
+        /// <exception cref="RidgeBreakdownException">The update would overflow; nothing changed.</exception>
+        public void Update(ReadOnlySpan<double> u, double weight)
+        {
+            if (!TryUpdate(u, weight, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="Update(ReadOnlySpan{double}, double)"/>, but reports an overflow by returning false (nothing changed).</summary>
+        /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
+        /// <param name="weight">Weight, finite and ≥ 0.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True when the sample was accepted.</returns>
+        /// <exception cref="ArgumentException">Wrong length, a non-finite entry or a negative weight.</exception>
+        public bool TryUpdate(ReadOnlySpan<double> u, double weight, out BreakdownInfo breakdown)
+        {
+            Guard.Length(u.Length, d, nameof(u));
+            Guard.AllFinite(u, nameof(u));
+            Guard.Weight(weight, nameof(weight));
+            return TryUpdateValidated(u, weight, out breakdown);
+        }
+
+        /// <summary>The update without argument checks (the caller has validated u and the weight).</summary>
+        internal bool TryUpdateValidated(ReadOnlySpan<double> u, double weight, out BreakdownInfo breakdown)
+        {
+            double oldW = weightSum;
+            double newW = (beta * oldW) + weight;
+            if (weight == 0.0 || newW == 0.0)
+            {
+                // Pure forgetting (or nothing yet): means unchanged.
+                weightSum = beta * oldW;
+                RecursiveKernels.Scale(comoment, beta);
+                trace *= beta;
+                SampleCount++;
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
+            double norm2 = 0.0;
+            for (int j = 0; j < d; j++)
+            {
+                double dj = u[j] - mean[j];
+                delta[j] = dj;
+                norm2 += dj * dj;
+            }
+
+            // Weight fraction of the new sample and the co-moment coefficient w·β·W_old/W_new (MATH.md §4.1).
+            double r = weight / newW;
+            double coefficient = weight * (beta * oldW / newW);
+            double newTrace = (beta * trace) + (coefficient * norm2);
+            if (!(newTrace < OverflowLevel) || !Guard.IsFinite(newW))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
+                return false;
+            }
+
+            for (int j = 0; j < d; j++)
+            {
+                mean[j] += r * delta[j];
+            }
+
+            RecursiveKernels.ScaleAddRankOne(comoment, d, beta, coefficient, delta);
+            weightSum = newW;
+            trace = newTrace;
+            SampleCount++;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>Every |entry| of M is at most its largest diagonal entry, hence at most its trace; keeping the trace below this keeps M finite.</summary>
+        private const double OverflowLevel = double.MaxValue / 4.0;
+
+        /// <summary>Weighted mean of component <paramref name="index"/>; NaN while W = 0. O(1).</summary>
+        /// <param name="index">Component, 0 ≤ index &lt; d.</param>
+        /// <returns>The mean.</returns>
+        /// <exception cref="ArgumentOutOfRangeException">Index out of range.</exception>
+        public double Mean(int index)
+        {
+            CheckIndex(index, nameof(index));
+            return weightSum > 0.0 ? mean[index] : double.NaN;
+        }
+
+        /// <summary>Writes the weighted means (NaN while W = 0) into <paramref name="destination"/>. O(d), no allocation.</summary>
+        /// <param name="destination">Buffer of length at least d.</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopyMeansTo(Span<double> destination)
+        {
+            if (destination.Length < d)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, d);
+            }
+
+            for (int j = 0; j < d; j++)
+            {
+                destination[j] = weightSum > 0.0 ? mean[j] : double.NaN;
+            }
+        }
+
+        /// <summary>Co-moment Mᵢⱼ = Σ aₖ(uₖᵢ − mᵢ)(uₖⱼ − mⱼ) (not divided by W). O(1).</summary>
+        /// <param name="row">First component.</param>
+        /// <param name="column">Second component.</param>
+        /// <returns>The co-moment (0 while W = 0).</returns>
+        /// <exception cref="ArgumentOutOfRangeException">Index out of range.</exception>
+        public double Comoment(int row, int column)
+        {
+            CheckIndex(row, nameof(row));
+            CheckIndex(column, nameof(column));
+            return RecursiveKernels.Get(comoment, d, row, column);
+        }
+
+        /// <summary>Writes M (d×d row-major, exactly symmetric) into <paramref name="destination"/>. O(d²), no allocation.</summary>
+        /// <param name="destination">Buffer of length at least d².</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopyComomentTo(Span<double> destination)
+        {
+            if (destination.Length < d * d)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, d * d);
+            }
+
+            RecursiveKernels.Unpack(comoment, d, destination);
+        }
+
+        /// <summary>Population variance Mⱼⱼ / W of component <paramref name="index"/> (divisor W, no bias correction); NaN while W = 0. O(1).</summary>
+        /// <param name="index">Component.</param>
+        /// <returns>The variance.</returns>
+        /// <exception cref="ArgumentOutOfRangeException">Index out of range.</exception>
+        public double Variance(int index)
+        {
+            CheckIndex(index, nameof(index));
+            return weightSum > 0.0 ? comoment[RecursiveKernels.RowOffset(index, d)] / weightSum : double.NaN;
+        }
+
+        /// <summary>Population standard deviation σⱼ = √(Mⱼⱼ / W) (MATH.md §4.1); NaN while W = 0, exactly 0 for a component constant since the start. O(1).</summary>
+        /// <param name="index">Component.</param>
+        /// <returns>The standard deviation.</returns>
+        /// <exception cref="ArgumentOutOfRangeException">Index out of range.</exception>
+        public double StandardDeviation(int index) => Math.Sqrt(Variance(index));
+
+        /// <summary>Writes all population standard deviations (NaN while W = 0) into <paramref name="destination"/>. O(d), no allocation.</summary>
+        /// <param name="destination">Buffer of length at least d.</param>
+        /// <exception cref="ArgumentException">The buffer is too short.</exception>
+        public void CopyStandardDeviationsTo(Span<double> destination)
+        {
+            if (destination.Length < d)
+            {
+                Guard.ThrowLength(nameof(destination), destination.Length, d);
+            }
+
+            for (int j = 0; j < d; j++)
+            {
+                destination[j] = weightSum > 0.0 ? Math.Sqrt(comoment[RecursiveKernels.RowOffset(j, d)] / weightSum) : double.NaN;
+            }
+        }
+
+        /// <summary>
+        /// Merges <paramref name="later"/> into this state (MATH.md §4.2, Chan, Golub &amp; LeVeque 1979/1983): this state covers the earlier
+        /// samples, <paramref name="later"/> the <c>later.SampleCount</c> steps after them. This state is first aged by β^k (k = later.SampleCount),
+        /// then W = W_A + W_B, m = m_A + (W_B/W)(m_B − m_A), M = M_A + M_B + (W_A·W_B/W)(m_B − m_A)(m_B − m_A)ᵀ.
+        /// Afterwards this state equals (to rounding) one that saw both streams in order. <paramref name="later"/> is not changed (it may be this object).
+        /// O(d²), no allocation.
+        /// </summary>
+        /// <param name="later">State of the later samples, same dimension and forgetting factor.</param>
+        /// <exception cref="ArgumentNullException"><paramref name="later"/> is null.</exception>
+        /// <exception cref="ArgumentException">Dimension or forgetting factor differ.</exception>
+        /// <exception cref="RidgeBreakdownException">The merge would overflow; nothing changed.</exception>
+        public void MergeFrom(StreamingMoments later)
+        {
+            if (!TryMergeFrom(later, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary>As <see cref="MergeFrom"/>, but reports an overflow by returning false (nothing changed).</summary>
+        /// <param name="later">State of the later samples.</param>
+        /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
+        /// <returns>True on success.</returns>
+        /// <exception cref="ArgumentNullException"><paramref name="later"/> is null.</exception>
+        /// <exception cref="ArgumentException">Dimension or forgetting factor differ.</exception>
+        public bool TryMergeFrom(StreamingMoments later, out BreakdownInfo breakdown)
+        {
+            Guard.NotNull(later, nameof(later));
+            if (later.d != d)
+            {
+                Guard.ThrowArgument(nameof(later), FormattableString.Invariant($"later has dimension {later.d}; expected {d}."));
+            }
+
+            if (later.beta != beta)
+            {
+                Guard.ThrowArgument(nameof(later), FormattableString.Invariant($"later has forgetting factor {later.beta:R}; expected {beta:R}."));
+            }
+
+            double age = Decay(beta, later.SampleCount);
+            double wa = age * weightSum;
+            double wb = later.weightSum;
+            double w = wa + wb;
+            double norm2 = 0.0;
+            for (int j = 0; j < d; j++)
+            {
+                double dj = later.mean[j] - mean[j];
+                delta[j] = dj;
+                norm2 += dj * dj;
+            }
+
+            double coefficient = w > 0.0 ? wa * (wb / w) : 0.0;
+            double newTrace = (age * trace) + later.trace + (coefficient * norm2);
+            if (!(newTrace < OverflowLevel) || !Guard.IsFinite(w))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
+                return false;
+            }
+
+            long count = SampleCount + later.SampleCount;
+            if (wa == 0.0)
+            {
+                later.mean.AsSpan().CopyTo(mean);
+            }
+            else if (wb > 0.0)
+            {
+                double r = wb / w;
+                for (int j = 0; j < d; j++)
+                {
+                    mean[j] += r * delta[j];
+                }
+            }
+
+            // Entry by entry, so that later may be this object.
+            double[] mb = later.comoment;
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                double ci = coefficient * delta[i];
+                for (int j = i; j < d; j++)
+                {
+                    comoment[o] = (age * comoment[o]) + mb[o] + (ci * delta[j]);
+                    o++;
+                }
+            }
+
+            weightSum = w;
+            trace = newTrace;
+            SampleCount = count;
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>β^k for a step count k (1 when β = 1).</summary>
+        internal static double Decay(double beta, long steps) => beta == 1.0 ? 1.0 : Math.Pow(beta, steps);
+
+        private void CheckIndex(int index, string name)
+        {
+            if ((uint)index >= (uint)d)
+            {
+                Guard.ThrowOutOfRange(name, index, FormattableString.Invariant($"must lie in [0, {d})"));
+            }
+        }
+    }
+}
