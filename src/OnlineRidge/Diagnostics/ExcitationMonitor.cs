@@ -73,7 +73,7 @@ namespace OnlineRidge
 
         /// <summary>Creates a monitor.</summary>
         /// <param name="parameterCount">Number of regressors p ≥ 1.</param>
-        X
+        /// <param name="forgettingFactor">β in (0, 1]; the memory is about 1/(1 − β) samples (1: everything since construction). Use the estimator's β or a shorter memory.</param>
         /// <param name="minimumInformation">Threshold on the weakest direction's information, &gt; 0 (see remarks).</param>
         /// <param name="referenceScales">Normal-operation spread of each regressor (length p, each &gt; 0), or empty to use the recent spread.</param>
         /// <exception cref="ArgumentException">Any argument out of range, named with its value.</exception>
