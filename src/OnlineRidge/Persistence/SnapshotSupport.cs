@@ -138,6 +138,19 @@ namespace OnlineRidge.Persistence
             return (int)v;
         }
 
+        /// <summary>The entry as a defined member of <typeparamref name="T"/>, written by its name (numeric text is rejected).</summary>
+        public static T EnumMember<T>(StateRecord record, string name)
+            where T : struct, Enum
+        {
+            string s = record.GetString(name);
+            if (Enum.TryParse(s, false, out T value) && string.Equals(value.ToString(), s, StringComparison.Ordinal))
+            {
+                return value;
+            }
+
+            throw Invalid("snapshot entry '{0}' = '{1}' is not a {2} member", name, s, typeof(T).Name);
+        }
+
         public static string PolicyName(InvalidSamplePolicy policy) => policy == InvalidSamplePolicy.SkipAndCount ? "SkipAndCount" : "Throw";
 
         public static InvalidSamplePolicy Policy(StateRecord record, string name) => record.GetString(name) switch
