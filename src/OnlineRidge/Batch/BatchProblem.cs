@@ -58,6 +58,9 @@ namespace OnlineRidge
 
         public bool Intercept { get; private set; }
 
+        /// <summary>True when the solver scale is an internal equilibration (zero penalty, no standardization), not part of the objective.</summary>
+        public bool Equilibrated { get; private set; }
+
         /// <summary>Number of active columns q.</summary>
         public int Q => Active.Length;
 
@@ -67,7 +70,7 @@ namespace OnlineRidge
             int p = x.Columns;
             if (n == 0)
             {
-                Guard.ThrowArgument(nameof(x), "x has no rows; at least one sample is needed.");
+                Guard.ThrowArgument(nameof(x), "x has 0 rows; at least one sample is needed.");
             }
 
             Guard.Length(y.Length, n, nameof(y));
@@ -129,7 +132,7 @@ namespace OnlineRidge
 
             if (!(wsum > 0.0))
             {
-                Guard.ThrowArgument(nameof(weights), "every effective sample weight is zero; at least one sample must carry weight.");
+                Guard.ThrowArgument(nameof(weights), string.Format(CultureInfo.InvariantCulture, "the effective sample weights wᵢ·βⁿ⁻¹⁻ⁱ sum to {0:R} (every one is zero); at least one sample must carry weight.", wsum));
             }
 
             pr.WeightSum = wsum;
@@ -181,6 +184,7 @@ namespace OnlineRidge
             var excluded = new List<int>();
             const double ConstantLevel = 1e3 * 2.220446049250313e-16;
             bool scaled = settings.Standardize || settings.Penalty == 0.0;
+            pr.Equilibrated = scaled && !settings.Standardize;
             for (int j = 0; j < p; j++)
             {
                 double scale = 1.0;
@@ -264,8 +268,12 @@ namespace OnlineRidge
             double s = 0.0;
             for (int i = 0; i < n; i++)
             {
-                double d = (all[(i * p) + j] - m) / absMax;
-                s += a[i] * d * d;
+                // Rows of zero weight must not take part at all: their values are not bounded by absMax, and 0·∞ is NaN.
+                if (a[i] > 0.0)
+                {
+                    double d = (all[(i * p) + j] - m) / absMax;
+                    s += a[i] * d * d;
+                }
             }
 
             return absMax * Math.Sqrt(s / wsum);

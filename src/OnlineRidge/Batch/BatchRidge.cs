@@ -61,7 +61,7 @@ namespace OnlineRidge
             int cols = x.GetLength(1);
             if (cols < 1)
             {
-                Guard.ThrowArgument(nameof(x), "x must have at least one column.");
+                Guard.ThrowArgument(nameof(x), string.Format(System.Globalization.CultureInfo.InvariantCulture, "x has {0} columns; at least one is needed.", cols));
             }
 
             var data = new double[rows * cols];
@@ -89,7 +89,18 @@ namespace OnlineRidge
         {
             settings ??= RidgeSettings.Default;
             var problem = BatchProblem.Create(x, y, weights, settings);
-            return BatchSolver.TrySolve(problem, x, y, settings, out fit, out breakdown);
+            try
+            {
+                return BatchSolver.TrySolve(problem, x, y, settings, out fit, out breakdown);
+            }
+            catch (MathNet.Numerics.NonConvergenceException)
+            {
+                // MathNet's SVD or eigen-solver gives up when an intermediate overflows to NaN (finite data near 1e154 and beyond):
+                // a data-dependent breakdown, to be reported as such and never as a foreign exception type.
+                fit = null;
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
+                return false;
+            }
         }
     }
 }

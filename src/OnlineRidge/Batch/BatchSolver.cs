@@ -23,7 +23,7 @@ namespace OnlineRidge
             var gamma = new double[q];
             var f = new double[q * q];        // Hinv = F·Fᵀ
             var sMatrix = new double[q * q];  // S = Hinv·G (hat matrix in parameter space)
-            var gram = new double[q * q];     // G, the data-only Gram matrix in solver coordinates (Cholesky path)
+            var gram = new double[q * q];     // G, the data-only Gram matrix in solver coordinates (Cholesky and QR paths)
             double[]? dataFactor = null;      // T = [[R, z], [0, ρ]] of the data (QR path)
             double cond = 1.0;
             int rank = q;
@@ -81,7 +81,7 @@ namespace OnlineRidge
 
                 if (used != RidgeSolver.Svd)
                 {
-                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, q, lambda, sMatrix, out trS, out trS2);
+                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, f, q, lambda, pr.Beta < 1.0, sMatrix, out trS, out trS2);
                 }
             }
             else
@@ -384,15 +384,17 @@ namespace OnlineRidge
         }
 
         /// <summary>
-        /// The hat matrix in parameter space S = H⁻¹G (H = G + λI in solver coordinates) and its traces tr S, tr S², from the spectrum of
-        /// the data: S = V·diag(sⱼ²/(sⱼ² + λ))·Vᵀ with sⱼ, V the singular values and right vectors of the data factor R (QR path) or the
-        /// eigen-decomposition of the data Gram G (Cholesky path), as the SVD solver does. Not as I − λ·H⁻¹: that equal form cancels
-        /// catastrophically once λ ≫ sⱼ² (tr S = q − λ·tr H⁻¹ → 0 loses its relative accuracy: p = 1, λ/s² = 7·10³ gave df wrong in the
-        /// 12th digit); nor as H⁻¹·G, which loses ε·cond(H) when λ is small. With λ = 0 (full rank) S = I exactly. Cost O(q³).
+        /// The hat matrix in parameter space S = H⁻¹G (H = G + λI in solver coordinates, H⁻¹ = F·Fᵀ) and its traces, through the symmetric
+        /// positive semi-definite M = Fᵀ·G·F, which is similar to S: tr S = tr M = Σₖ fₖᵀGfₖ and tr S² = ‖M‖²_F are sums of non-negative
+        /// terms, S = F·(Fᵀ·G). Not as I − λ·H⁻¹: that equal form cancels catastrophically once λ ≫ sⱼ² (tr S = q − λ·tr H⁻¹ → 0 loses
+        /// its relative accuracy: p = 1, λ/s² = 7·10³ gave df wrong in the 12th digit). With λ = 0 (full rank) S = I exactly.
+        /// G is the data Gram matrix (Cholesky path) or RᵀR of the data factor (QR path). Cost about 7q³/6 multiply-adds.
         /// </summary>
-        private static void HatMatrix(double[]? dataFactor, double[] gram, int q, double lambda, double[] sMatrix, out double trS, out double trS2)
+        private static void HatMatrix(double[]? dataFactor, double[] gram, double[] f, int q, double lambda, bool needMatrix, double[] sMatrix, out double trS, out double trS2)
         {
             Array.Clear(sMatrix, 0, sMatrix.Length);
+            trS = 0.0;
+            trS2 = 0.0;
             if (lambda == 0.0)
             {
                 for (int i = 0; i < q; i++)
@@ -405,53 +407,75 @@ namespace OnlineRidge
                 return;
             }
 
-            var s2 = new double[q];
-            Matrix<double> v;
             if (dataFactor is not null)
             {
                 int c = q + 1;
-                Matrix<double> r = Matrix<double>.Build.Dense(q, q, (i, j) => j >= i ? dataFactor[(i * c) + j] : 0.0);
-                var svd = r.Svd(true);
-                for (int k = 0; k < q; k++)
+                for (int i = 0; i < q; i++)
                 {
-                    s2[k] = svd.S[k] * svd.S[k];
-                }
+                    for (int j = i; j < q; j++)
+                    {
+                        double g = 0.0;
+                        for (int k = 0; k <= i; k++)
+                        {
+                            g += dataFactor[(k * c) + i] * dataFactor[(k * c) + j];
+                        }
 
-                v = svd.VT.Transpose();
-            }
-            else
-            {
-                Matrix<double> g = Matrix<double>.Build.Dense(q, q, (i, j) => gram[(i * q) + j]);
-                var evd = g.Evd(Symmetricity.Symmetric);
-                for (int k = 0; k < q; k++)
-                {
-                    s2[k] = Math.Max(0.0, evd.EigenValues[k].Real);
+                        gram[(i * q) + j] = g;
+                        gram[(j * q) + i] = g;
+                    }
                 }
-
-                v = evd.EigenVectors;
             }
 
-            trS = 0.0;
-            trS2 = 0.0;
-            var hat = new double[q];
-            for (int k = 0; k < q; k++)
+            // P = Fᵀ·G (F upper triangular), M = P·F.
+            var pm = new double[q * q];
+            for (int i = 0; i < q; i++)
             {
-                hat[k] = s2[k] / (s2[k] + lambda);
-                trS += hat[k];
-                trS2 += hat[k] * hat[k];
+                for (int j = 0; j < q; j++)
+                {
+                    double v = 0.0;
+                    for (int k = 0; k <= i; k++)
+                    {
+                        v += f[(k * q) + i] * gram[(k * q) + j];
+                    }
+
+                    pm[(i * q) + j] = v;
+                }
             }
 
             for (int i = 0; i < q; i++)
             {
                 for (int j = 0; j < q; j++)
                 {
-                    double h = 0.0;
-                    for (int k = 0; k < q; k++)
+                    double v = 0.0;
+                    for (int k = 0; k <= j; k++)
                     {
-                        h += v[i, k] * hat[k] * v[j, k];
+                        v += pm[(i * q) + k] * f[(k * q) + j];
                     }
 
-                    sMatrix[(i * q) + j] = h;
+                    trS2 += v * v;
+                    if (i == j)
+                    {
+                        trS += v;
+                    }
+                }
+            }
+
+            if (!needMatrix)
+            {
+                return;
+            }
+
+            for (int i = 0; i < q; i++)
+            {
+                for (int j = 0; j < q; j++)
+                {
+                    double v = 0.0;
+                    for (int k = i; k < q; k++)
+                    {
+                        v += f[(i * q) + k] * pm[(k * q) + j];
+                    }
+
+                    sMatrix[(i * q) + j] = v;
                 }
             }
         }
@@ -614,6 +638,11 @@ namespace OnlineRidge
                 gamma[j] = g;
             }
 
+            if (rank < q && pr.Equilibrated)
+            {
+                RawMinimumNorm(pr, vt, rank, gamma);
+            }
+
             for (int i = 0; i < q; i++)
             {
                 for (int j = 0; j < q; j++)
@@ -630,6 +659,32 @@ namespace OnlineRidge
 
             double sq = q > 0 ? s[q - 1] : 0.0;
             cond = lambda > 0.0 ? Math.Sqrt(((s1 * s1) + lambda) / ((sq * sq) + lambda)) : (sq > 0.0 ? s1 / sq : double.PositiveInfinity);
+        }
+
+        /// <summary>
+        /// Rank-deficient SVD solution under the internal equilibration (zero penalty, no standardization): the SVD gives the solution of
+        /// minimal ‖γ − γ₀‖ in equilibrated coordinates γ = S·θ, but the minimum-norm solution promised is minimal in the raw metric
+        /// ‖θ − θ₀‖ (MATH.md §1.3). All solutions are γ + N·z with N the right singular vectors of the dropped singular values, so
+        /// z minimizes ‖S⁻¹(γ − γ₀) + S⁻¹N·z‖, a small least-squares problem (MathNet QR; S⁻¹N has full column rank). O(q·k²).
+        /// The rank test itself stays in equilibrated coordinates, where it does not depend on the units of the columns.
+        /// </summary>
+        private static void RawMinimumNorm(BatchProblem pr, Matrix<double> vt, int rank, double[] gamma)
+        {
+            int q = pr.Q;
+            int k = q - rank;
+            Matrix<double> m = Matrix<double>.Build.Dense(q, k, (j, l) => vt[rank + l, j] / pr.Scale[pr.Active[j]]);
+            Vector<double> r = Vector<double>.Build.Dense(q, j => -(gamma[j] - pr.PriorScaled[j]) / pr.Scale[pr.Active[j]]);
+            Vector<double> z = m.QR().Solve(r);
+            for (int j = 0; j < q; j++)
+            {
+                double shift = 0.0;
+                for (int l = 0; l < k; l++)
+                {
+                    shift += vt[rank + l, j] * z[l];
+                }
+
+                gamma[j] += shift;
+            }
         }
 
         /// <summary>

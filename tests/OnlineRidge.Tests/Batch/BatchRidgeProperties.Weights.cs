@@ -98,5 +98,90 @@ namespace OnlineRidge.Tests.Batch
                 Assert.True(Math.Abs(w - fc.WeightSum) <= 10.0 * c.N * ToleranceRule.Eps * w, $"weight sum {fc.WeightSum:R} vs {w:R}");
             }
         }
+
+        /// <summary>
+        /// Definition (MATH.md §0: weights enter only through √w·x and √w·y): a row of weight 0 contributes nothing, whatever finite values it
+        /// holds. Overwriting the zero-weight rows with extreme finite values (±double.MaxValue, ±10³⁰⁰; missing-data sentinels) changes
+        /// nothing: coefficients, intercept, RSS and the degrees of freedom equal those of the same problem with ordinary values there.
+        /// (Found the standardization scale turning NaN through 0·∞.)
+        /// </summary>
+        [Property(Arbitrary = new[] { typeof(BatchGenerators) }, MaxTest = 200, Replay = "(20261202013," + Gamma + ")")]
+        public void ZeroWeightRowsDoNotTakePartWhateverTheirValues(BatchCase generated)
+        {
+            double[] w = Enumerable.Range(0, generated.N).Select(i => generated.Weight(i)).ToArray();
+            for (int i = 0; i < generated.N && w.Count(v => v == 0.0) < 2; i += 3)
+            {
+                if (w.Count(v => v > 0.0) > generated.P + 2)
+                {
+                    w[i] = 0.0;
+                }
+            }
+
+            BatchCase c = generated.WithWeights(w, WeightKind.Continuous);
+            double[] sentinels = { double.MaxValue, -double.MaxValue, 1e300, -1e300 };
+            double[] x = (double[])c.X.Clone();
+            double[] y = (double[])c.Y.Clone();
+            int k = 0;
+            for (int i = 0; i < c.N; i++)
+            {
+                if (w[i] == 0.0)
+                {
+                    for (int j = 0; j < c.P; j++)
+                    {
+                        x[(i * c.P) + j] = sentinels[k++ % sentinels.Length];
+                    }
+
+                    y[i] = sentinels[k++ % sentinels.Length];
+                }
+            }
+
+            BatchCase s = c.WithData(x, y);
+            ReferenceSolution r = BatchReference.Solve(c);
+            foreach (RidgeSolver solver in AllSolvers)
+            {
+                RidgeFit? fc = FitOrLegitimateRefusal(c, solver, r);
+                if (fc is null)
+                {
+                    continue;
+                }
+
+                Assert.True(BatchRidge.TryFit(s.View, s.Y, s.Settings(solver), s.Weights, out RidgeFit? fs, out BreakdownInfo bd), $"{solver}: {bd} with sentinels in zero-weight rows: {c}");
+                AssertSameSolution(fs, r, fc, r, $"{solver}, sentinels in zero-weight rows: {c}");
+                double tol = r.Tolerance(fc.SolverUsed);
+                Assert.True(Math.Abs(fs.ResidualSumOfSquares - fc.ResidualSumOfSquares) <= (tol * fc.ResidualSumOfSquares) + (1e3 * ToleranceRule.Eps * ResidualScale(c, r)), $"{solver}: RSS {fs.ResidualSumOfSquares:R} vs {fc.ResidualSumOfSquares:R}");
+                Assert.Equal(fc.DiscountedCount, fs.DiscountedCount);
+                Assert.True(Math.Abs(fs.EffectiveDegreesOfFreedom - fc.EffectiveDegreesOfFreedom) <= tol * fc.EffectiveDegreesOfFreedom, $"{solver}: df {fs.EffectiveDegreesOfFreedom:R} vs {fc.EffectiveDegreesOfFreedom:R}");
+            }
+        }
+
+        /// <summary>
+        /// Contract (BatchRidge remarks): the input is not copied and not modified, and the same inputs give the same bits. Every solver,
+        /// with TryFit and Fit; a breakdown must leave the inputs unchanged too.
+        /// </summary>
+        [Property(Arbitrary = new[] { typeof(BatchGenerators) }, MaxTest = 100, Replay = "(20261202014," + Gamma + ")")]
+        public void FitLeavesItsInputsUnchangedAndIsReproducible(BatchCase c)
+        {
+            double[] x = (double[])c.X.Clone();
+            double[] y = (double[])c.Y.Clone();
+            double[] w = (double[])c.Weights.Clone();
+            foreach (RidgeSolver solver in AllSolvers)
+            {
+                bool first = BatchRidge.TryFit(c.View, c.Y, c.Settings(solver), c.Weights, out RidgeFit? f1, out BreakdownInfo b1);
+                bool second = BatchRidge.TryFit(c.View, c.Y, c.Settings(solver), c.Weights, out RidgeFit? f2, out BreakdownInfo b2);
+                Assert.Equal(first, second);
+                Assert.Equal(b1, b2);
+                if (first)
+                {
+                    Assert.Equal(BatchReference.Augmented(f1!), BatchReference.Augmented(f2!));
+                    Assert.Equal(f1!.ResidualSumOfSquares, f2!.ResidualSumOfSquares);
+                    Assert.Equal(f1.ConditionEstimate, f2.ConditionEstimate);
+                    Assert.Equal(f1.EffectiveDegreesOfFreedom, f2.EffectiveDegreesOfFreedom);
+                }
+
+                Assert.Equal(x, c.X);
+                Assert.Equal(y, c.Y);
+                Assert.Equal(w, c.Weights);
+            }
+        }
     }
 }

@@ -8,7 +8,7 @@ using FsCheck.Fluent;
 namespace OnlineRidge.Tests.Properties
 {
     /// <summary>The shape of a generated design (what makes it easy or hard).</summary>
-    public enum DesignKind
+    public enum BatchDesignKind
     {
         /// <summary>Independent uniform columns on [−1, 1]: well conditioned.</summary>
         Uniform,
@@ -42,7 +42,7 @@ namespace OnlineRidge.Tests.Properties
     /// </summary>
     public sealed class BatchCase
     {
-        public BatchCase(int n, int p, double[] x, double[] y, double[] weights, WeightKind weightKind, DesignKind design, double penalty, double beta, bool intercept, bool standardize, double[]? prior)
+        public BatchCase(int n, int p, double[] x, double[] y, double[] weights, WeightKind weightKind, BatchDesignKind design, double penalty, double beta, bool intercept, bool standardize, double[]? prior)
         {
             N = n;
             P = p;
@@ -72,7 +72,7 @@ namespace OnlineRidge.Tests.Properties
 
         public WeightKind WeightKind { get; }
 
-        public DesignKind Design { get; }
+        public BatchDesignKind Design { get; }
 
         public double Penalty { get; }
 
@@ -91,8 +91,9 @@ namespace OnlineRidge.Tests.Properties
 
         public int PositiveRows => Enumerable.Range(0, N).Count(i => Weight(i) > 0.0);
 
-        public RidgeSettings Settings(RidgeSolver solver) => new()
+        public RidgeSettings Settings(RidgeSolver solver, int refinementSteps = 3) => new()
         {
+            RefinementSteps = refinementSteps,
             Penalty = Penalty,
             ForgettingFactor = Beta,
             FitIntercept = Intercept,
@@ -158,7 +159,7 @@ namespace OnlineRidge.Tests.Properties
                 from p in Gen.Choose(1, 20)
                 from extra in Gen.Choose(0, Math.Min(MaxRows - p - 3, 10 + (2 * size)))
                 let n = p + 3 + extra
-                from design in Gen.Elements(DesignKind.Uniform, DesignKind.Uniform, DesignKind.BadlyScaled, DesignKind.Collinear, DesignKind.Polynomial)
+                from design in Gen.Elements(BatchDesignKind.Uniform, BatchDesignKind.Uniform, BatchDesignKind.BadlyScaled, BatchDesignKind.Collinear, BatchDesignKind.Polynomial)
                 from cells in Gen.ArrayOf(Unit, n * p)
                 from exponents in Gen.ArrayOf(Gen.Choose(-3, 3), p)
                 from offsets in Gen.ArrayOf(Unit, p)
@@ -227,7 +228,7 @@ namespace OnlineRidge.Tests.Properties
         }
 
         private static BatchCase Build(
-            int n, int p, DesignKind design, double[] cells, int[] exponents, double[] offsets, int collinearity, double[] truth,
+            int n, int p, BatchDesignKind design, double[] cells, int[] exponents, double[] offsets, int collinearity, double[] truth,
             double noiseLevel, double[] noise, WeightKind weightKind, int[] rawWeights, double penalty, double beta, bool intercept,
             bool standardize, double[]? priorCells)
         {
@@ -235,7 +236,7 @@ namespace OnlineRidge.Tests.Properties
             var scale = Enumerable.Repeat(1.0, p).ToArray();
             switch (design)
             {
-                case DesignKind.BadlyScaled:
+                case BatchDesignKind.BadlyScaled:
                     for (int j = 0; j < p; j++)
                     {
                         scale[j] = Math.Pow(10.0, exponents[j]);
@@ -246,7 +247,7 @@ namespace OnlineRidge.Tests.Properties
                     }
 
                     break;
-                case DesignKind.Collinear:
+                case BatchDesignKind.Collinear:
                     double delta = Math.Pow(10.0, -collinearity);
                     for (int i = 0; i < n; i++)
                     {
@@ -257,7 +258,7 @@ namespace OnlineRidge.Tests.Properties
                     }
 
                     break;
-                case DesignKind.Polynomial:
+                case BatchDesignKind.Polynomial:
                     int degree = Math.Min(p, 5);
                     for (int i = 0; i < n; i++)
                     {
