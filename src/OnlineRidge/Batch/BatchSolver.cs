@@ -81,7 +81,7 @@ namespace OnlineRidge
 
                 if (used != RidgeSolver.Svd)
                 {
-                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, f, q, lambda, pr.Beta < 1.0, sMatrix, out trS, out trS2);
+                    HatMatrix(used == RidgeSolver.Qr ? dataFactor : null, gram, f, q, lambda, pr.Beta < 1.0 || settings.Covariance == CovarianceModel.Sandwich, sMatrix, out trS, out trS2);
                 }
             }
             else

@@ -162,7 +162,7 @@ namespace OnlineRidge.Tests.Batch
             var settings = new RidgeSettings { Solver = RidgeSolver.Svd, Standardize = standardize, Prior = withPrior ? prior : null };
             RidgeFit fit = BatchRidge.Fit(new MatrixView(x, n, p), y, settings, w);
             Assert.Equal(2, fit.Rank);
-            var c = new BatchCase(n, p, x, y, w, WeightKind.Continuous, DesignKind.Collinear, 0.0, 1.0, true, standardize, null);
+            var c = new BatchCase(n, p, x, y, w, WeightKind.Continuous, BatchDesignKind.Collinear, 0.0, 1.0, true, standardize, null);
             double[] d = BatchReference.Scales(c, w);
             double[] shifted = Enumerable.Range(0, n).Select(i => y[i] - Enumerable.Range(0, p).Sum(j => x[(i * p) + j] * prior[j])).ToArray();
             var (delta, b0, bound, interceptBound) = MinimumNorm(x, shifted, n, p, true, d, w);
@@ -216,7 +216,7 @@ namespace OnlineRidge.Tests.Batch
             double[] prior = { 0.5, -3.0, 0.25 };
             var reduced = new BatchCase(
                 n, 2, Enumerable.Range(0, n).SelectMany(i => new[] { x[i * p], x[(i * p) + 2] }).ToArray(), y, Array.Empty<double>(), WeightKind.Unit,
-                DesignKind.Uniform, penalty, beta, true, true, new[] { prior[0], prior[2] });
+                BatchDesignKind.Uniform, penalty, beta, true, true, new[] { prior[0], prior[2] });
             ReferenceSolution r = BatchReference.Solve(reduced);
             foreach (RidgeSolver solver in BatchRidgeProperties.AllSolvers)
             {
@@ -229,7 +229,7 @@ namespace OnlineRidge.Tests.Batch
             }
 
             // Without an intercept the constant column is a regressor like any other (its RMS is 7.25, not 0).
-            var full = new BatchCase(n, p, x, y, Array.Empty<double>(), WeightKind.Unit, DesignKind.Uniform, penalty, beta, false, true, prior);
+            var full = new BatchCase(n, p, x, y, Array.Empty<double>(), WeightKind.Unit, BatchDesignKind.Uniform, penalty, beta, false, true, prior);
             ReferenceSolution rf = BatchReference.Solve(full);
             RidgeFit noIntercept = BatchRidge.Fit(full.View, y, full.Settings(RidgeSolver.Qr));
             Assert.Empty(noIntercept.ExcludedColumns);

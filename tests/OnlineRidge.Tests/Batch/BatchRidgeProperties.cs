@@ -56,7 +56,7 @@ namespace OnlineRidge.Tests.Batch
             int gram = references.Count(r => r.Tolerance(RidgeSolver.Cholesky) + r.OwnTolerance <= ToleranceRule.SkipLevel);
             Assert.True(orthogonal >= 270, $"only {orthogonal}/300 problems informative for QR/SVD");
             Assert.True(gram >= 225, $"only {gram}/300 problems informative for Cholesky");
-            Assert.All(Enum.GetValues<DesignKind>(), k => Assert.Contains(cases, c => c.Design == k));
+            Assert.All(Enum.GetValues<BatchDesignKind>(), k => Assert.Contains(cases, c => c.Design == k));
             Assert.Contains(references, r => r.Problem.Kappa > 1e8);
             Assert.Contains(references, r => r.Problem.Kappa < 10.0);
             Assert.Contains(cases, c => c.P == 1);
