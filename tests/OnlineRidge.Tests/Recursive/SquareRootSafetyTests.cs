@@ -360,5 +360,14 @@ namespace OnlineRidge.Tests.Recursive
                 Assert.Contains(expected, json, StringComparison.Ordinal);
             }
         }
+
+        /// <summary>Theorem (DESIGN.md tier 1): an undefined policy is refused by the setting, naming it and the value.</summary>
+        [Fact]
+        public void UndefinedPolicyIsRefusedNamingTheSetting()
+        {
+            var ex = Assert.Throws<ArgumentOutOfRangeException>(() => new SquareRootSettings { InvalidSamples = (InvalidSamplePolicy)3 });
+            Assert.Equal(nameof(SquareRootSettings.InvalidSamples), ex.ParamName);
+            Assert.Contains("3", ex.Message, StringComparison.Ordinal);
+        }
     }
 }
