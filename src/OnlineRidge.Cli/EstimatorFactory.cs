@@ -61,6 +61,8 @@ namespace OnlineRidge.Cli
 
         public long SampleCount => inner.SampleCount;
 
+        public long SkippedSampleCount => inner.SkippedSampleCount;
+
         public double Intercept
         {
             get
