@@ -66,7 +66,7 @@ namespace OnlineRidge.Benchmarks
                             continue;
                         }
 
-                        var d = Digits(ds, fit);
+                        var d = ds.Digits(fit);
                         double min = Math.Min(Math.Min(d.Coefficients, d.StandardErrors), Math.Min(d.ResidualSd, d.RSquared));
                         string cell = min.ToString("F1", inv);
                         if (solver == RidgeSolver.Auto)
@@ -152,25 +152,6 @@ namespace OnlineRidge.Benchmarks
 
         private static RidgeFit Fit(RandomProblem problem, RidgeSettings settings) =>
             BatchRidge.Fit(new MatrixView(problem.X, problem.Rows, problem.Columns), problem.Y, settings);
-
-        private static (double Coefficients, double StandardErrors, double ResidualSd, double RSquared) Digits(NistDataset ds, RidgeFit fit)
-        {
-            var estimates = new List<double>();
-            var errors = new List<double>();
-            if (ds.HasIntercept)
-            {
-                estimates.Add(fit.Intercept);
-                errors.Add(fit.InterceptStandardError);
-            }
-
-            estimates.AddRange(fit.Coefficients);
-            errors.AddRange(fit.StandardErrors ?? Enumerable.Repeat(double.NaN, fit.ParameterCount));
-            double coefficients = estimates.Select((v, k) => NistDataset.Lre(v, ds.CertifiedEstimates[k])).Min();
-            double standardErrors = errors.Select((v, k) => NistDataset.Lre(v, ds.CertifiedStandardErrors[k])).Min();
-            double residualSd = NistDataset.Lre(fit.ResidualStandardDeviation, ds.CertifiedResidualSd);
-            double rSquared = NistDataset.Lre(fit.RSquared, ds.CertifiedRSquared);
-            return (coefficients, standardErrors, residualSd, rSquared);
-        }
 
         private static string Name(RidgeSolver solver) => solver switch
         {

@@ -143,23 +143,7 @@ namespace OnlineRidge
             double[] a0 = pr.Weights;
             if (settings.FitIntercept)
             {
-                for (int j = 0; j < p; j++)
-                {
-                    double m = 0.0;
-                    for (int i = 0; i < n; i++)
-                    {
-                        m += a0[i] * all[(i * p) + j];
-                    }
-
-                    m /= wsum;
-                    double c = 0.0;
-                    for (int i = 0; i < n; i++)
-                    {
-                        c += a0[i] * (all[(i * p) + j] - m);
-                    }
-
-                    pr.MeanX[j] = m + (c / wsum);
-                }
+                ColumnMoments.WeightedMeans(all, n, p, a0, wsum, pr.MeanX);
 
                 double my = 0.0;
                 for (int i = 0; i < n; i++)
@@ -185,6 +169,12 @@ namespace OnlineRidge
             const double ConstantLevel = 1e3 * 2.220446049250313e-16;
             bool scaled = settings.Standardize || settings.Penalty == 0.0;
             pr.Equilibrated = scaled && !settings.Standardize;
+            var spreads = new double[scaled ? p : 0];
+            if (scaled)
+            {
+                ColumnMoments.WeightedSpreads(all, n, p, a0, pr.MeanX, wsum, spreads);
+            }
+
             for (int j = 0; j < p; j++)
             {
                 double scale = 1.0;
@@ -192,7 +182,7 @@ namespace OnlineRidge
                 if (scaled)
                 {
                     double m = pr.MeanX[j];
-                    double spread = ColumnScale(all, a0, n, p, j, m, wsum);
+                    double spread = spreads[j];
                     bool constant = settings.FitIntercept
                         ? spread <= ConstantLevel * Math.Sqrt((m * m) + (spread * spread))
                         : spread == 0.0;
@@ -246,37 +236,6 @@ namespace OnlineRidge
             }
 
             return pr;
-        }
-
-        /// <summary>√(Σ aᵢ (xᵢⱼ − m)² / W), computed with a scaling pass so that it cannot overflow.</summary>
-        private static double ColumnScale(ReadOnlySpan<double> all, double[] a, int n, int p, int j, double m, double wsum)
-        {
-            double absMax = 0.0;
-            for (int i = 0; i < n; i++)
-            {
-                if (a[i] > 0.0)
-                {
-                    absMax = Math.Max(absMax, Math.Abs(all[(i * p) + j] - m));
-                }
-            }
-
-            if (absMax == 0.0)
-            {
-                return 0.0;
-            }
-
-            double s = 0.0;
-            for (int i = 0; i < n; i++)
-            {
-                // Rows of zero weight must not take part at all: their values are not bounded by absMax, and 0·∞ is NaN.
-                if (a[i] > 0.0)
-                {
-                    double d = (all[(i * p) + j] - m) / absMax;
-                    s += a[i] * d * d;
-                }
-            }
-
-            return absMax * Math.Sqrt(s / wsum);
         }
 
         /// <summary>Writes row i in solver coordinates, multiplied by √aᵢ, into <paramref name="row"/> (length q + 1; last entry the output).</summary>

@@ -56,7 +56,7 @@ namespace OnlineRidge
 
                 if (!done)
                 {
-                    double[] t = DataFactor(pr, x, y);
+                    double[] t = DataFactor(pr, x, y, settings.MaxDegreeOfParallelism);
                     if (settings.Solver == RidgeSolver.Svd)
                     {
                         SolveSvd(pr, t, tolerance, gamma, f, sMatrix, out cond, out rank, out trS, out trS2);
@@ -321,26 +321,7 @@ namespace OnlineRidge
             int q = pr.Q;
             int c = q + 1;
             double lambda = pr.Penalty;
-            var g = new double[c * c];
-            var row = new double[c];
-            for (int i = 0; i < pr.Rows; i++)
-            {
-                if (pr.Weights[i] == 0.0)
-                {
-                    continue;
-                }
-
-                pr.WeightedRow(x, y, i, row);
-                for (int j = 0; j < c; j++)
-                {
-                    double rj = row[j];
-                    int o = j * c;
-                    for (int k = j; k < c; k++)
-                    {
-                        g[o + k] += rj * row[k];
-                    }
-                }
-            }
+            double[] g = BatchKernels.Gram(pr, x.RowMajor, y, settings.MaxDegreeOfParallelism);
 
             var h = new double[q * q];
             for (int j = 0; j < q; j++)
@@ -481,25 +462,8 @@ namespace OnlineRidge
         }
 
         /// <summary>Householder factor T = [[R, z], [0, ρ]] of the weighted rows in solver coordinates ((q+1)×(q+1), row-major).</summary>
-        internal static double[] DataFactor(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y)
-        {
-            int q = pr.Q;
-            var acc = new HouseholderAccumulator(q + 1);
-            var row = new double[q + 1];
-            for (int i = 0; i < pr.Rows; i++)
-            {
-                if (pr.Weights[i] == 0.0)
-                {
-                    continue;
-                }
-
-                pr.WeightedRow(x, y, i, row);
-                acc.AddRow(row);
-            }
-
-            acc.Flush();
-            return acc.Factor;
-        }
+        internal static double[] DataFactor(BatchProblem pr, MatrixView x, ReadOnlySpan<double> y, int degreeOfParallelism = 1) =>
+            BatchKernels.Factor(pr, x.RowMajor, y, degreeOfParallelism);
 
         /// <summary>QR of [[R, z], [√λ·I, √λ·γ₀]]; F receives R̄⁻¹.</summary>
         private static bool TryQr(BatchProblem pr, double[] t, double tolerance, double[] gamma, double[] f, out double cond, out BreakdownInfo breakdown)

@@ -65,6 +65,37 @@ namespace OnlineRidge.Internal
             }
         }
 
+        /// <summary>Rejects an undefined <see cref="InvalidSamplePolicy"/> value.</summary>
+        public static void Policy(InvalidSamplePolicy policy, string paramName)
+        {
+            if (policy != InvalidSamplePolicy.Throw && policy != InvalidSamplePolicy.SkipAndCount)
+            {
+                ThrowOutOfRange(paramName, (double)policy, "must be InvalidSamplePolicy.Throw or InvalidSamplePolicy.SkipAndCount");
+            }
+        }
+
+        /// <summary>
+        /// True when the sample (x, y, w) is usable: every entry of x and y finite, w finite and ≥ 0. O(p), no allocation; the length is not
+        /// checked here.
+        /// </summary>
+        public static bool IsUsableSample(ReadOnlySpan<double> x, double y, double w)
+        {
+            if (!IsFinite(y) || !(w >= 0.0) || double.IsInfinity(w))
+            {
+                return false;
+            }
+
+            for (int i = 0; i < x.Length; i++)
+            {
+                if (!IsFinite(x[i]))
+                {
+                    return false;
+                }
+            }
+
+            return true;
+        }
+
         public static void NotNull([NotNull] object? value, string paramName)
         {
             if (value is null)

@@ -1,6 +1,8 @@
 using System;
 using System.Collections.Generic;
+using System.IO;
 using OnlineRidge.Internal;
+using OnlineRidge.Persistence;
 
 namespace OnlineRidge
 {
@@ -24,10 +26,14 @@ namespace OnlineRidge
     /// <para><b>Accuracy.</b> Not backward stable: the error behaves like ε·κ_path, κ_path = maxₖ cond(Hₖ) over the whole run (MATH.md §2.2
     /// item 3, §10) — largest at the start when δ is small. Prefer the square-root or information forms for ill-conditioned data. With β &lt; 1
     /// and poor excitation P grows geometrically (windup, MATH.md §2.3).</para>
-    /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> before any change. A data-dependent breakdown (s &lt; 0,
+    /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> before any change; with
+    /// <see cref="CovarianceFormSettings.InvalidSamples"/> = <see cref="InvalidSamplePolicy.SkipAndCount"/> a sample with NaN or ∞ in x or y
+    /// or a bad weight is instead skipped and counted in <see cref="SkippedSampleCount"/> (a wrong length still throws). A data-dependent breakdown (s &lt; 0,
     /// d ≤ 0, a non-positive diagonal of the new P, or an overflow) throws <see cref="RidgeBreakdownException"/> with
     /// <see cref="BreakdownKind.LostDefiniteness"/> or <see cref="BreakdownKind.NonFinite"/> (or returns false from <see cref="TryUpdate"/>)
     /// and leaves the estimator exactly as it was; re-initialize or switch to a square-root form.</para>
+    /// <para><b>Persistence.</b> <see cref="WriteSnapshot"/> and <see cref="ReadSnapshot"/> save and restore the complete state (settings,
+    /// counts, θ, P, J*) bit for bit, so a restarted process continues with exactly the results it would have had.</para>
     /// <para><b>Threads and reproducibility.</b> Not thread-safe (one writer; readers must synchronize). The same inputs on the same runtime and
     /// hardware give the same bits; the last bits may differ between the net10.0 (vectorized) and netstandard2.0 builds.</para>
     /// </remarks>
@@ -36,6 +42,10 @@ namespace OnlineRidge
         private readonly int p;
         private readonly double beta;
         private readonly CovarianceUpdate updateForm;
+        private readonly CovarianceFormSettings settings;
+        private readonly bool skipInvalid;
+        private const string SnapshotKind = "CovarianceFormEstimator";
+        private const int SnapshotVersion = 1;
         private readonly double[] v;
         private readonly double[] gain;
         private double[] covariance;
@@ -51,7 +61,7 @@ namespace OnlineRidge
         /// <exception cref="ArgumentException"><paramref name="parameterCount"/> below 1, or a prior whose length is not p.</exception>
         /// <remarks>Allocates all state (O(p²)); nothing is allocated afterwards.</remarks>
         public CovarianceFormEstimator(int parameterCount, CovarianceFormSettings? settings = null)
-            : this(parameterCount, settings ?? CovarianceFormSettings.Default, ReadOnlySpan<double>.Empty, false)
+            : this(parameterCount, settings ?? CovarianceFormSettings.Default, ReadOnlySpan<double>.Empty, InitialState.FromPriorWeight)
         {
         }
 
@@ -61,11 +71,19 @@ namespace OnlineRidge
         /// <param name="initialCovariance">P₀, p×p row-major. Entries (i, j) and (j, i) must agree to 10⁻¹² of the largest diagonal entry; the upper triangle is used.</param>
         /// <exception cref="ArgumentException">Wrong length, a non-finite entry, not symmetric, or not positive definite (Cholesky fails).</exception>
         public CovarianceFormEstimator(int parameterCount, CovarianceFormSettings? settings, ReadOnlySpan<double> initialCovariance)
-            : this(parameterCount, settings ?? CovarianceFormSettings.Default, initialCovariance, true)
+            : this(parameterCount, settings ?? CovarianceFormSettings.Default, initialCovariance, InitialState.Explicit)
         {
         }
 
-        private CovarianceFormEstimator(int parameterCount, CovarianceFormSettings settings, ReadOnlySpan<double> initialCovariance, bool explicitCovariance)
+        /// <summary>How the private constructor sets P: from δ, from an explicit P₀, or not at all (a snapshot overwrites the state).</summary>
+        private enum InitialState
+        {
+            FromPriorWeight,
+            Explicit,
+            Restored,
+        }
+
+        private CovarianceFormEstimator(int parameterCount, CovarianceFormSettings settings, ReadOnlySpan<double> initialCovariance, InitialState initialState)
         {
             if (parameterCount < 1)
             {
@@ -73,8 +91,10 @@ namespace OnlineRidge
             }
 
             p = parameterCount;
+            this.settings = settings;
             beta = settings.ForgettingFactor;
             updateForm = settings.Update;
+            skipInvalid = settings.InvalidSamples == InvalidSamplePolicy.SkipAndCount;
             IReadOnlyList<double>? prior = settings.Prior;
             if (prior is not null && prior.Count != p)
             {
@@ -96,11 +116,11 @@ namespace OnlineRidge
                 }
             }
 
-            if (explicitCovariance)
+            if (initialState == InitialState.Explicit)
             {
                 SetInitialCovariance(initialCovariance);
             }
-            else
+            else if (initialState == InitialState.FromPriorWeight)
             {
                 double p0 = 1.0 / settings.PriorWeight;
                 if (double.IsInfinity(p0))
@@ -121,6 +141,12 @@ namespace OnlineRidge
         /// <inheritdoc/>
         public long SampleCount { get; private set; }
 
+        /// <inheritdoc/>
+        public long SkippedSampleCount { get; private set; }
+
+        /// <summary>The settings the estimator was built with.</summary>
+        public CovarianceFormSettings Settings => settings;
+
         /// <summary>The forgetting factor β of the settings.</summary>
         public double ForgettingFactor => beta;
 
@@ -138,13 +164,14 @@ namespace OnlineRidge
         public double LastPriorError => lastError;
 
         /// <inheritdoc/>
-        /// <exception cref="ArgumentException">Wrong length or a non-finite value.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or a non-finite value under <see cref="InvalidSamplePolicy.Throw"/>.</exception>
         /// <exception cref="RidgeBreakdownException">P lost positive definiteness or overflowed; the estimator is unchanged.</exception>
         /// <remarks>O(p²), no allocation. See the type remarks.</remarks>
         public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
 
         /// <inheritdoc/>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite value, or a negative weight.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite value or a negative or
+        /// non-finite weight (under <see cref="InvalidSamplePolicy.SkipAndCount"/> those samples are skipped and counted).</exception>
         /// <exception cref="RidgeBreakdownException">P lost positive definiteness or overflowed; the estimator is unchanged.</exception>
         /// <remarks>O(p²), no allocation. See the type remarks.</remarks>
         public void Update(ReadOnlySpan<double> x, double y, double weight)
@@ -161,12 +188,20 @@ namespace OnlineRidge
         /// <param name="weight">Sample weight, finite and ≥ 0; 0 only forgets.</param>
         /// <param name="breakdown">What broke down (<see cref="BreakdownKind.LostDefiniteness"/> with the offending value, or
         /// <see cref="BreakdownKind.NonFinite"/>), or <see cref="BreakdownInfo.None"/>.</param>
-        /// <returns>True when the sample was accepted; false leaves the estimator exactly as it was.</returns>
+        /// <returns>True when the sample was accepted (or skipped under <see cref="InvalidSamplePolicy.SkipAndCount"/>: then only
+        /// <see cref="SkippedSampleCount"/> changes); false leaves the estimator exactly as it was.</returns>
         /// <exception cref="ArgumentException">Caller mistakes, as for Update (never reported through the return value).</exception>
-        /// <remarks>O(p²), no allocation.</remarks>
+        /// <remarks>O(p²), no allocation (also when skipping).</remarks>
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+            if (skipInvalid && !Guard.IsUsableSample(x, y, weight))
+            {
+                SkippedSampleCount++;
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
             Guard.AllFinite(x, nameof(x));
             if (!Guard.IsFinite(y))
             {
@@ -279,6 +314,103 @@ namespace OnlineRidge
             }
 
             RecursiveKernels.Unpack(covariance, p, destination);
+        }
+
+        /// <summary>
+        /// Writes the complete state — settings (forgetting factor, prior weight, prior, update form, invalid-sample policy), p,
+        /// <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, θ, the packed upper triangle of P, <see cref="MinimumCost"/> and
+        /// <see cref="LastPriorError"/> — as a versioned, checksummed snapshot (kind "CovarianceFormEstimator", layout version 1).
+        /// </summary>
+        /// <param name="destination">Writable stream; written at its position and left open.</param>
+        /// <param name="encoding">Binary (default) or indented JSON with the same entries (settings by name).</param>
+        /// <remarks>
+        /// <see cref="ReadSnapshot"/> of the result continues bit-identically (an explicit initial covariance given at construction is not
+        /// stored: only the current P matters). Does not change the estimator. O(p²) time and allocation. Not thread-safe with respect to a
+        /// concurrent update.
+        /// </remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="destination"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not writable, or <paramref name="encoding"/> is undefined.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public void WriteSnapshot(Stream destination, SnapshotEncoding encoding = SnapshotEncoding.Binary)
+        {
+            var record = new StateRecord(SnapshotKind, SnapshotVersion)
+                .Add("parameterCount", (long)p)
+                .Add("forgettingFactor", settings.ForgettingFactor)
+                .Add("priorWeight", settings.PriorWeight)
+                .Add("prior", SnapshotSupport.PriorEntry(settings.Prior))
+                .Add("update", settings.Update == CovarianceUpdate.JosephLike ? "JosephLike" : "Symmetric")
+                .Add("invalidSamples", SnapshotSupport.PolicyName(settings.InvalidSamples))
+                .Add("sampleCount", SampleCount)
+                .Add("skippedSampleCount", SkippedSampleCount)
+                .Add("theta", theta)
+                .Add("covariance", covariance)
+                .Add("minimumCost", minimumCost)
+                .Add("lastPriorError", lastError);
+            SnapshotSupport.Write(record, destination, encoding);
+        }
+
+        /// <summary>
+        /// Restores an estimator from a snapshot of <see cref="WriteSnapshot"/> in either encoding (detected from the content), read from the
+        /// current position of <paramref name="source"/> to its end.
+        /// </summary>
+        /// <param name="source">Readable stream holding exactly one snapshot.</param>
+        /// <returns>A new estimator in exactly the saved state; its results are bit-identical to those the saved one would have given.</returns>
+        /// <remarks>
+        /// Validates before building anything: checksum, kind, version, every setting (ranges of <see cref="CovarianceFormSettings"/>), p, the
+        /// lengths, finite θ and P with a positive diagonal (what the update itself guarantees; full positive definiteness is not re-checked),
+        /// a finite non-negative J*, and non-negative counts. O(p²). Thread-safe.
+        /// </remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="source"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not readable.</exception>
+        /// <exception cref="SnapshotFormatException">Not a valid snapshot of this kind; nothing is returned.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public static CovarianceFormEstimator ReadSnapshot(Stream source)
+        {
+            StateRecord r = SnapshotSupport.Read(source, SnapshotKind, SnapshotVersion);
+            int p = SnapshotSupport.ParameterCount(r, "parameterCount", 1 << 15);
+            double[]? prior = SnapshotSupport.Prior(r, "prior", p);
+            CovarianceUpdate update = r.GetString("update") switch
+            {
+                "Symmetric" => CovarianceUpdate.Symmetric,
+                "JosephLike" => CovarianceUpdate.JosephLike,
+                var other => throw SnapshotSupport.Invalid("snapshot entry 'update' = '{0}' is not a covariance update form", other),
+            };
+            CovarianceFormSettings settings = SnapshotSupport.Settings(() => new CovarianceFormSettings
+            {
+                ForgettingFactor = r.GetDouble("forgettingFactor"),
+                PriorWeight = r.GetDouble("priorWeight"),
+                Prior = prior,
+                Update = update,
+                InvalidSamples = SnapshotSupport.Policy(r, "invalidSamples"),
+            });
+            long count = SnapshotSupport.Count(r, "sampleCount");
+            long skippedCount = SnapshotSupport.Count(r, "skippedSampleCount");
+            double[] theta = SnapshotSupport.FiniteArray(r, "theta", p);
+            double[] covariance = SnapshotSupport.FiniteArray(r, "covariance", RecursiveKernels.PackedLength(p));
+            for (int i = 0; i < p; i++)
+            {
+                double v = covariance[RecursiveKernels.RowOffset(i, p)];
+                if (!(v > 0.0))
+                {
+                    throw SnapshotSupport.Invalid("snapshot entry 'covariance' has the non-positive diagonal entry {0:R} at {1}", v, i);
+                }
+            }
+
+            double cost = SnapshotSupport.NonNegative(r, "minimumCost");
+            double error = r.GetDouble("lastPriorError");
+            if (double.IsInfinity(error))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'lastPriorError' = {0:R} must be finite (or NaN before the first update)", error);
+            }
+
+            var est = new CovarianceFormEstimator(p, settings, ReadOnlySpan<double>.Empty, InitialState.Restored);
+            theta.AsSpan().CopyTo(est.theta);
+            covariance.AsSpan().CopyTo(est.covariance);
+            est.minimumCost = cost;
+            est.lastError = error;
+            est.SampleCount = count;
+            est.SkippedSampleCount = skippedCount;
+            return est;
         }
 
         private void SetInitialCovariance(ReadOnlySpan<double> p0)

@@ -23,7 +23,7 @@ namespace OnlineRidge
 
     /// <summary>
     /// Immutable settings of <see cref="CovarianceFormEstimator"/>: forgetting factor β, prior θ₀ and its weight δ (initial information Γ₀ = δ·I,
-    /// initial covariance P₀ = δ⁻¹·I), and the covariance update form. Every property is validated when it is set; an invalid value throws
+    /// initial covariance P₀ = δ⁻¹·I), the covariance update form and the handling of unusable samples. Every property is validated when it is set; an invalid value throws
     /// <see cref="ArgumentException"/> naming the property and the value.
     /// </summary>
     /// <remarks>
@@ -36,6 +36,7 @@ namespace OnlineRidge
         private readonly double priorWeight = DefaultPriorWeight;
         private readonly double[]? prior;
         private readonly CovarianceUpdate update = CovarianceUpdate.Symmetric;
+        private readonly InvalidSamplePolicy invalidSamples = InvalidSamplePolicy.Throw;
 
         /// <summary>
         /// Default of <see cref="PriorWeight"/>: 10⁻⁴ (P₀ = 10⁴·I). For regressors of order one this is the weight of a small fraction of one
@@ -120,6 +121,22 @@ namespace OnlineRidge
                 }
 
                 update = value;
+            }
+        }
+
+        /// <summary>
+        /// What an update does with an unusable sample (NaN or ∞ in x or y, a negative, NaN or infinite weight): throw (default,
+        /// <see cref="InvalidSamplePolicy.Throw"/>) or skip it and count it in <see cref="CovarianceFormEstimator.SkippedSampleCount"/>
+        /// (<see cref="InvalidSamplePolicy.SkipAndCount"/>, for streams with sensor dropouts). A regressor vector of the wrong length always throws.
+        /// </summary>
+        /// <exception cref="ArgumentOutOfRangeException">Not a defined <see cref="InvalidSamplePolicy"/> value.</exception>
+        public InvalidSamplePolicy InvalidSamples
+        {
+            get => invalidSamples;
+            init
+            {
+                Guard.Policy(value, nameof(InvalidSamples));
+                invalidSamples = value;
             }
         }
     }

@@ -8,7 +8,8 @@ namespace OnlineRidge
     /// </summary>
     /// <remarks>
     /// Implementations are not thread-safe: one thread updates; readers on other threads must synchronize. A call that throws leaves the
-    /// estimator exactly as it was.
+    /// estimator exactly as it was; a sample skipped under <see cref="InvalidSamplePolicy.SkipAndCount"/> changes only
+    /// <see cref="SkippedSampleCount"/>.
     /// </remarks>
     public interface IRecursiveEstimator
     {
@@ -17,6 +18,12 @@ namespace OnlineRidge
 
         /// <summary>Number of updates accepted so far (including zero-weight updates, which only forget).</summary>
         long SampleCount { get; }
+
+        /// <summary>
+        /// Number of samples skipped as unusable under <see cref="InvalidSamplePolicy.SkipAndCount"/> (always 0 under
+        /// <see cref="InvalidSamplePolicy.Throw"/>); skipped samples are not in <see cref="SampleCount"/>. O(1).
+        /// </summary>
+        long SkippedSampleCount { get; }
 
         /// <summary>Adds one sample (x, y) with weight 1.</summary>
         /// <param name="x">Regressor vector of length <see cref="ParameterCount"/>.</param>

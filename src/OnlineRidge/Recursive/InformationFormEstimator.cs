@@ -1,7 +1,9 @@
 using System;
 using System.Collections.Generic;
+using System.IO;
 using MathNet.Numerics.LinearAlgebra;
 using OnlineRidge.Internal;
+using OnlineRidge.Persistence;
 using OnlineRidge.Standardization;
 
 namespace OnlineRidge
@@ -35,6 +37,12 @@ namespace OnlineRidge
     /// (H not numerically positive definite, ill-conditioned beyond the limit, no sample of positive weight yet — reported as
     /// <see cref="BreakdownKind.RankDeficient"/> — or an overflow) throws <see cref="RidgeBreakdownException"/> or returns false from
     /// <see cref="TrySolve"/>; an update that would overflow does the same. Nothing changes on failure.</para>
+    /// <para><b>Dropouts.</b> With the constructor's <c>invalidSamples</c> = <see cref="InvalidSamplePolicy.SkipAndCount"/> a sample with NaN or
+    /// ∞ in x or y or a negative, NaN or infinite weight is skipped (state untouched) and counted in <see cref="SkippedSampleCount"/> instead of
+    /// throwing; a wrong length still throws. (A constructor parameter, not a <see cref="RidgeSettings"/> property: batch fits have no
+    /// stream to skip in.)</para>
+    /// <para><b>Persistence.</b> <see cref="WriteSnapshot"/> and <see cref="ReadSnapshot"/> save and restore the complete state (settings,
+    /// regime, counts, statistics) bit for bit.</para>
     /// <para><b>Threads and reproducibility.</b> Not thread-safe, also not for concurrent reads (reads may fill the cache). Same inputs, runtime and
     /// hardware give the same bits; the last bits may differ between the net10.0 and netstandard2.0 builds.</para>
     /// </remarks>
@@ -51,6 +59,10 @@ namespace OnlineRidge
         private readonly PenaltyRegime regime;
         private readonly RidgeSettings settings;
         private readonly double[] prior;
+        private readonly InvalidSamplePolicy invalidSamples;
+        private long skipped;
+        private const string SnapshotKind = "InformationFormEstimator";
+        private const int SnapshotVersion = 1;
 
         // State: with an intercept the centered moments of u = (x, y); without, the packed Gram of u = (x, y) (G, b, c) and W.
         private readonly StreamingMoments? moments;
@@ -80,8 +92,12 @@ namespace OnlineRidge
         /// <param name="regime">How the penalty ages for <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> (default: constant).</param>
         /// <param name="trackSquaredForgettingGram">Also accumulate G₂ = Σ β²⁽ⁿ⁻ⁱ⁾wᵢ x̃ᵢx̃ᵢᵀ (x̃ = (1, x) with an intercept) for parameter
         /// uncertainty (MATH.md §6.2–6.3); doubles the update cost.</param>
-        /// <exception cref="ArgumentException">p below 1, a prior of the wrong length, or a solver other than Auto or Cholesky.</exception>
-        public InformationFormEstimator(int parameterCount, RidgeSettings? settings = null, PenaltyRegime regime = PenaltyRegime.Constant, bool trackSquaredForgettingGram = false)
+        /// <param name="invalidSamples">What an update does with a sample holding NaN or ∞ in x or y or a negative, NaN or infinite weight:
+        /// throw (default) or skip it and count it in <see cref="SkippedSampleCount"/> (for streams with sensor dropouts).</param>
+        /// <exception cref="ArgumentException">p below 1, a prior of the wrong length, a solver other than Auto or Cholesky, or an undefined
+        /// regime or policy.</exception>
+        public InformationFormEstimator(int parameterCount, RidgeSettings? settings = null, PenaltyRegime regime = PenaltyRegime.Constant, bool trackSquaredForgettingGram = false,
+            InvalidSamplePolicy invalidSamples = InvalidSamplePolicy.Throw)
         {
             if (parameterCount < 1)
             {
@@ -98,6 +114,9 @@ namespace OnlineRidge
             {
                 Guard.ThrowOutOfRange(nameof(regime), (double)regime, "not a PenaltyRegime member");
             }
+
+            Guard.Policy(invalidSamples, nameof(invalidSamples));
+            this.invalidSamples = invalidSamples;
 
             IReadOnlyList<double>? priorList = settings.Prior;
             if (priorList is not null && priorList.Count != parameterCount)
@@ -151,6 +170,12 @@ namespace OnlineRidge
         /// <inheritdoc/>
         public long SampleCount { get; private set; }
 
+        /// <inheritdoc/>
+        public long SkippedSampleCount => skipped;
+
+        /// <summary>What an update does with an unusable sample (the constructor's <c>invalidSamples</c>).</summary>
+        public InvalidSamplePolicy InvalidSamples => invalidSamples;
+
         /// <summary>The settings given at construction.</summary>
         public RidgeSettings Settings => settings;
 
@@ -178,13 +203,14 @@ namespace OnlineRidge
         }
 
         /// <inheritdoc/>
-        /// <exception cref="ArgumentException">Wrong length or a non-finite value.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or a non-finite value under <see cref="InvalidSamplePolicy.Throw"/>.</exception>
         /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
         /// <remarks>O(p²), no allocation.</remarks>
         public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
 
         /// <inheritdoc/>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite value or a negative weight.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite value or a negative or
+        /// non-finite weight (under <see cref="InvalidSamplePolicy.SkipAndCount"/> those samples are skipped and counted).</exception>
         /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
         /// <remarks>O(p²), no allocation.</remarks>
         public void Update(ReadOnlySpan<double> x, double y, double weight)
@@ -200,11 +226,21 @@ namespace OnlineRidge
         /// <param name="y">Output.</param>
         /// <param name="weight">Sample weight, finite and ≥ 0; 0 only forgets.</param>
         /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
-        /// <returns>True when the sample was accepted.</returns>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite value or a negative weight.</exception>
+        /// <returns>True when the sample was accepted (or skipped under <see cref="InvalidSamplePolicy.SkipAndCount"/>: then only
+        /// <see cref="SkippedSampleCount"/> changes).</returns>
+        /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite value or a negative or
+        /// non-finite weight.</exception>
+        /// <remarks>O(p²), no allocation (also when skipping).</remarks>
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+            if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(x, y, weight))
+            {
+                skipped++;
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
             Guard.AllFinite(x, nameof(x));
             if (!Guard.IsFinite(y))
             {
@@ -533,7 +569,8 @@ namespace OnlineRidge
         /// Merges <paramref name="later"/> into this estimator (MATH.md §5.3): this one holds the earlier samples, <paramref name="later"/> the
         /// k = later.SampleCount steps after them. G = β^k·G_A + G_B (likewise b, c, W, N; G₂ with β^(2k); Chan–Golub–LeVeque for the centered
         /// moments, MATH.md §4.2); the sample counts add, so the regime-D decay is β^(n_A + n_B). The result equals (to rounding) one estimator fed
-        /// both streams in order. The prior and penalty of this estimator's settings apply. <paramref name="later"/> is not changed (it may be this object).
+        /// both streams in order. The prior and penalty of this estimator's settings apply; the skipped-sample counts add (the policies may
+        /// differ). <paramref name="later"/> is not changed (it may be this object).
         /// O(p²), no allocation.
         /// </summary>
         /// <param name="later">Estimator of the later samples, with the same p, forgetting factor, intercept setting and G₂ tracking.</param>
@@ -563,6 +600,7 @@ namespace OnlineRidge
             }
 
             double age = StreamingMoments.Decay(beta, later.SampleCount);
+            long laterSkipped = later.skipped;
             double newSquaredTrace = 0.0;
             if (squaredGram is not null)
             {
@@ -603,12 +641,153 @@ namespace OnlineRidge
 
             DiscountedCount = (age * DiscountedCount) + later.DiscountedCount;
             SampleCount += later.SampleCount;
+            skipped += laterSkipped;
             solutionValid = false;
             breakdown = BreakdownInfo.None;
             return true;
         }
 
         private const double OverflowLevel = double.MaxValue / 4.0;
+
+        /// <summary>
+        /// Writes the complete state — every <see cref="RidgeSettings"/> property (penalty, forgetting factor, intercept, standardization, prior,
+        /// solver, rank tolerance, covariance model, refinement steps, Cholesky condition limit), the regime, the G₂ tracking flag, the
+        /// invalid-sample policy, p, <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, <see cref="DiscountedCount"/> and the
+        /// statistics (centered moments with an intercept, packed Gram of (x, y) and W without, G₂ when tracked, and the overflow guards' traces)
+        /// — as a versioned, checksummed snapshot (kind "InformationFormEstimator", layout version 1).
+        /// </summary>
+        /// <param name="destination">Writable stream; written at its position and left open.</param>
+        /// <param name="encoding">Binary (default) or indented JSON with the same entries (settings by name).</param>
+        /// <remarks><see cref="ReadSnapshot"/> of the result continues bit-identically (the cached solution is not stored; it is a deterministic
+        /// function of the state and is recomputed on the first read). Does not change the estimator and does not solve. O(p²) time and
+        /// allocation. Not thread-safe with respect to a concurrent update.</remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="destination"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not writable, or <paramref name="encoding"/> is undefined.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public void WriteSnapshot(Stream destination, SnapshotEncoding encoding = SnapshotEncoding.Binary)
+        {
+            var record = new StateRecord(SnapshotKind, SnapshotVersion)
+                .Add("parameterCount", (long)p)
+                .Add("penalty", settings.Penalty)
+                .Add("forgettingFactor", settings.ForgettingFactor)
+                .Add("fitIntercept", settings.FitIntercept)
+                .Add("standardize", settings.Standardize)
+                .Add("prior", SnapshotSupport.PriorEntry(settings.Prior))
+                .Add("solver", settings.Solver.ToString())
+                .Add("rankTolerance", settings.RankTolerance ?? double.NaN)
+                .Add("covariance", settings.Covariance.ToString())
+                .Add("refinementSteps", (long)settings.RefinementSteps)
+                .Add("choleskyConditionLimit", settings.CholeskyConditionLimit)
+                .Add("regime", regime.ToString())
+                .Add("trackSquaredForgettingGram", squaredGram is not null)
+                .Add("invalidSamples", SnapshotSupport.PolicyName(invalidSamples))
+                .Add("sampleCount", SampleCount)
+                .Add("skippedSampleCount", skipped)
+                .Add("discountedCount", DiscountedCount);
+            if (intercept)
+            {
+                moments!.AddStateTo(record, "moments.");
+            }
+            else
+            {
+                record.Add("weightSum", weightSum).Add("gramTrace", gramTrace).Add("gram", gram);
+            }
+
+            if (squaredGram is not null)
+            {
+                record.Add("squaredTrace", squaredTrace).Add("squaredGram", squaredGram);
+            }
+
+            SnapshotSupport.Write(record, destination, encoding);
+        }
+
+        /// <summary>
+        /// Restores an estimator from a snapshot of <see cref="WriteSnapshot"/> in either encoding (detected from the content), read from the
+        /// current position of <paramref name="source"/> to its end.
+        /// </summary>
+        /// <param name="source">Readable stream holding exactly one snapshot.</param>
+        /// <returns>A new estimator in exactly the saved state; its results are bit-identical to those the saved one would have given.</returns>
+        /// <remarks>Validates before returning anything: checksum, kind, version, every setting (ranges of <see cref="RidgeSettings"/> and of
+        /// the constructor), p, lengths, finite statistics with non-negative diagonals, traces that bound those diagonals (so the overflow
+        /// guards still hold), non-negative counts. O(p²). Thread-safe.</remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="source"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not readable.</exception>
+        /// <exception cref="SnapshotFormatException">Not a valid snapshot of this kind; nothing is returned.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public static InformationFormEstimator ReadSnapshot(Stream source)
+        {
+            StateRecord r = SnapshotSupport.Read(source, SnapshotKind, SnapshotVersion);
+            int p = SnapshotSupport.ParameterCount(r, "parameterCount", 1 << 15);
+            double[]? prior = SnapshotSupport.Prior(r, "prior", p);
+            double rankTolerance = r.GetDouble("rankTolerance");
+            RidgeSettings settings = SnapshotSupport.Settings(() => new RidgeSettings
+            {
+                Penalty = r.GetDouble("penalty"),
+                ForgettingFactor = r.GetDouble("forgettingFactor"),
+                FitIntercept = r.GetBoolean("fitIntercept"),
+                Standardize = r.GetBoolean("standardize"),
+                Prior = prior,
+                Solver = SnapshotSupport.EnumMember<RidgeSolver>(r, "solver"),
+                RankTolerance = double.IsNaN(rankTolerance) ? null : rankTolerance,
+                Covariance = SnapshotSupport.EnumMember<CovarianceModel>(r, "covariance"),
+                RefinementSteps = r.GetInt32("refinementSteps"),
+                CholeskyConditionLimit = r.GetDouble("choleskyConditionLimit"),
+            });
+            PenaltyRegime regime = SnapshotSupport.EnumMember<PenaltyRegime>(r, "regime");
+            bool track = r.GetBoolean("trackSquaredForgettingGram");
+            InvalidSamplePolicy policy = SnapshotSupport.Policy(r, "invalidSamples");
+            InformationFormEstimator est = SnapshotSupport.Settings(() => new InformationFormEstimator(p, settings, regime, track, policy));
+            est.SampleCount = SnapshotSupport.Count(r, "sampleCount");
+            est.skipped = SnapshotSupport.Count(r, "skippedSampleCount");
+            est.DiscountedCount = SnapshotSupport.NonNegative(r, "discountedCount");
+            if (est.intercept)
+            {
+                est.moments!.RestoreStateFrom(r, "moments.");
+            }
+            else
+            {
+                est.weightSum = SnapshotSupport.NonNegative(r, "weightSum");
+                est.gramTrace = RestorePacked(r, "gram", "gramTrace", p + 1, est.gram!);
+            }
+
+            if (track)
+            {
+                est.squaredTrace = RestorePacked(r, "squaredGram", "squaredTrace", est.ModelDimension, est.squaredGram!);
+            }
+
+            return est;
+        }
+
+        /// <summary>Validates a packed symmetric statistic and its tracked trace (finite, diagonal ≥ 0, trace bounding the diagonal) and copies it.</summary>
+        private static double RestorePacked(StateRecord r, string name, string traceName, int d, double[] target)
+        {
+            double trace = SnapshotSupport.NonNegative(r, traceName);
+            if (!(trace < OverflowLevel))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry '{0}' = {1:R} exceeds the overflow limit", traceName, trace);
+            }
+
+            double[] packed = SnapshotSupport.FiniteArray(r, name, target.Length);
+            double diagonal = 0.0;
+            for (int j = 0; j < d; j++)
+            {
+                double v = packed[RecursiveKernels.RowOffset(j, d)];
+                if (!(v >= 0.0))
+                {
+                    throw SnapshotSupport.Invalid("snapshot entry '{0}' has the negative diagonal entry {1:R} at {2}", name, v, j);
+                }
+
+                diagonal += v;
+            }
+
+            if (!(diagonal <= (trace * (1.0 + 1e-6)) + 1e-300))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry '{0}' (trace {1:R}) is inconsistent with '{2}' = {3:R}", name, diagonal, traceName, trace);
+            }
+
+            packed.AsSpan().CopyTo(target);
+            return trace;
+        }
 
         private int ModelDimension => intercept ? p + 1 : p;
 

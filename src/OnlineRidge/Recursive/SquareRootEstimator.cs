@@ -1,6 +1,8 @@
 using System;
 using System.Diagnostics.CodeAnalysis;
+using System.IO;
 using OnlineRidge.Internal;
+using OnlineRidge.Persistence;
 
 namespace OnlineRidge
 {
@@ -37,12 +39,16 @@ namespace OnlineRidge
     /// unexcited stretches it is meaningless although finite. The rank test works in column-equilibrated coordinates (as the batch solver's),
     /// so it reports <see cref="BreakdownKind.RankDeficient"/> only for a singular scaled system, not for this loss of accuracy.</para>
     /// <para><b>Failures</b>: caller mistakes (wrong length, NaN or ∞ in x, y or a weight, negative weight) throw
-    /// <see cref="ArgumentException"/> naming the parameter before any state changes. Data-dependent breakdown throws
+    /// <see cref="ArgumentException"/> naming the parameter before any state changes; with <see cref="SquareRootSettings.InvalidSamples"/> =
+    /// <see cref="InvalidSamplePolicy.SkipAndCount"/> a sample with NaN or ∞ in x or y or a bad weight is instead skipped and counted in
+    /// <see cref="SkippedSampleCount"/> (a wrong length still throws). Data-dependent breakdown throws
     /// <see cref="RidgeBreakdownException"/> and leaves the state unchanged; <see cref="TryUpdate"/> and <see cref="TrySolve"/> report it
     /// instead: an update whose weighted sum of squares would exceed 10³⁰⁰ (so that the factor could overflow) is rejected
     /// (<see cref="BreakdownKind.NonFinite"/>); a solve with a numerically singular system (condition estimate ≥ 1/(10(p + 1)ε)), no weighted
     /// data while an intercept or standardization needs it, or a non-finite result reports <see cref="BreakdownKind.RankDeficient"/> or
     /// <see cref="BreakdownKind.NonFinite"/>.</para>
+    /// <para><b>Persistence</b>: <see cref="WriteSnapshot"/> and <see cref="ReadSnapshot"/> save and restore the complete state (settings,
+    /// counts, factor) bit for bit, so that a restarted process continues with exactly the results it would have had.</para>
     /// <para><b>Thread-safety</b>: none; even reads may solve and write the cache. Use one thread, or synchronize. <b>Reproducibility</b>:
     /// the same inputs on the same runtime and hardware give the same bits; the net10.0 build uses SIMD kernels whose last bits may differ
     /// from the portable build.</para>
@@ -52,6 +58,8 @@ namespace OnlineRidge
         private const double Eps = 2.220446049250313e-16;
         private const double ConstantLevel = 1e3 * Eps;
         private const double SumOfSquaresLimit = 1e300;
+        private const string SnapshotKind = "SquareRootEstimator";
+        private const int SnapshotVersion = 1;
 
         private readonly int p;
         private readonly int c;
@@ -59,6 +67,7 @@ namespace OnlineRidge
         private readonly double q;
         private readonly double qq;
         private readonly double rankTolerance;
+        private readonly bool skipInvalid;
         private readonly SquareRootSettings settings;
         private readonly double[] prior;
         private readonly double[] triangle;
@@ -76,6 +85,7 @@ namespace OnlineRidge
         private double discountedCount;
         private double sumOfSquares;
         private long count;
+        private long skipped;
 
         private bool cacheValid;
         private double cachedIntercept;
@@ -109,6 +119,7 @@ namespace OnlineRidge
             q = Math.Sqrt(settings.ForgettingFactor);
             qq = q * q;
             rankTolerance = 10.0 * (p + 1) * Eps;
+            skipInvalid = settings.InvalidSamples == InvalidSamplePolicy.SkipAndCount;
             prior = new double[p];
             if (settings.Prior is { } values)
             {
@@ -133,6 +144,9 @@ namespace OnlineRidge
 
         /// <inheritdoc/>
         public long SampleCount => count;
+
+        /// <inheritdoc/>
+        public long SkippedSampleCount => skipped;
 
         /// <summary>The settings the estimator was built with.</summary>
         public SquareRootSettings Settings => settings;
@@ -218,13 +232,15 @@ namespace OnlineRidge
 
         /// <inheritdoc/>
         /// <remarks>Cost 2c² multiply-adds and c square roots; allocates nothing. See <see cref="TryUpdate"/> for the checks.</remarks>
-        /// <exception cref="ArgumentException">Wrong length or a non-finite entry (nothing changes).</exception>
+        /// <exception cref="ArgumentException">Wrong length, or (policy <see cref="InvalidSamplePolicy.Throw"/>) a non-finite entry; nothing changes.</exception>
         /// <exception cref="RidgeBreakdownException">The sample would make the factor overflow (nothing changes).</exception>
         public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
 
         /// <inheritdoc/>
         /// <remarks>Cost 2c² multiply-adds and c square roots (a zero weight only scales: c²/2); allocates nothing.</remarks>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite entry, or a negative or non-finite weight (nothing changes).</exception>
+        /// <exception cref="ArgumentException">Wrong length, or (policy <see cref="InvalidSamplePolicy.Throw"/>) a non-finite entry or a
+        /// negative or non-finite weight; nothing changes. Under <see cref="InvalidSamplePolicy.SkipAndCount"/> the latter are skipped and
+        /// counted instead.</exception>
         /// <exception cref="RidgeBreakdownException">The sample would make the factor overflow (nothing changes).</exception>
         public void Update(ReadOnlySpan<double> x, double y, double weight)
         {
@@ -237,17 +253,27 @@ namespace OnlineRidge
         /// <summary>
         /// Adds one sample (MATH.md §3.2): forgets by q = fl(√β) and rotates √w·(1, xᵀ, y) into the factor. Reports instead of throwing when
         /// the weighted sum of squares of the state would exceed 10³⁰⁰ (entries could overflow): the sample is then rejected, nothing changes.
+        /// Under <see cref="InvalidSamplePolicy.SkipAndCount"/> a sample with a non-finite entry or a negative or non-finite weight is skipped:
+        /// only <see cref="SkippedSampleCount"/> changes (no forgetting step, <see cref="SampleCount"/> unchanged) and the call returns true.
         /// </summary>
         /// <param name="x">Regressor vector of length p.</param>
         /// <param name="y">Output.</param>
         /// <param name="weight">Precision weight, finite and ≥ 0; 0 only forgets.</param>
         /// <param name="breakdown"><see cref="BreakdownInfo.None"/>, or <see cref="BreakdownKind.NonFinite"/> with index -1.</param>
-        /// <returns>True when the sample was added.</returns>
-        /// <remarks>Cost 2c² multiply-adds, c square roots; allocates nothing. Not thread-safe.</remarks>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite entry, or a negative or non-finite weight (caller mistakes always throw; nothing changes).</exception>
+        /// <returns>True when the sample was added (or skipped by the policy); false when it was rejected as a breakdown.</returns>
+        /// <remarks>Cost 2c² multiply-adds, c square roots; allocates nothing (also when skipping). Not thread-safe.</remarks>
+        /// <exception cref="ArgumentException">Wrong length (always), or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite entry or a
+        /// negative or non-finite weight (caller mistakes throw, they are not reported as a status; nothing changes).</exception>
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+            if (skipInvalid && !Guard.IsUsableSample(x, y, weight))
+            {
+                skipped++;
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
             Guard.AllFinite(x, nameof(x));
             if (!Guard.IsFinite(y))
             {
@@ -516,7 +542,8 @@ namespace OnlineRidge
         /// Merges a state that continues this one (MATH.md §3.5): this estimator covers the earlier samples, <paramref name="later"/> the
         /// k_B = later.<see cref="SampleCount"/> samples that follow, fed to a fresh estimator with the same settings. The result (in this
         /// estimator) is the state one estimator would have after all samples in order: T ← triangle of [q^(k_B)·T; T_B], W ← β̃^(k_B)W + W_B,
-        /// N likewise. Cost O(c³) (c rows rotated in); allocates nothing; <paramref name="later"/> is not changed.
+        /// N likewise, and the sample and skipped-sample counts add. Cost O(c³) (c rows rotated in); allocates nothing; <paramref name="later"/>
+        /// is not changed. The invalid-sample policies may differ (they are not part of the objective).
         /// </summary>
         /// <param name="later">The later state; same parameter count and same settings (objective) as this one, and not this instance.</param>
         /// <remarks>Equal to sequential feeding up to rounding (orthogonal class of MATH.md §10); q^(k_B) is computed by one power, so the
@@ -578,12 +605,13 @@ namespace OnlineRidge
             discountedCount = (s2 * discountedCount) + later.discountedCount;
             sumOfSquares = total;
             count += later.count;
+            skipped += later.skipped;
             cacheValid = false;
             breakdown = BreakdownInfo.None;
             return true;
         }
 
-        /// <summary>Forgets all data: back to the state after construction (settings kept). O(p²), no allocation.</summary>
+        /// <summary>Forgets all data: back to the state after construction (settings kept; both counts 0). O(p²), no allocation.</summary>
         public void Reset()
         {
             Array.Clear(triangle, 0, triangle.Length);
@@ -591,7 +619,122 @@ namespace OnlineRidge
             discountedCount = 0.0;
             sumOfSquares = 0.0;
             count = 0;
+            skipped = 0;
             cacheValid = false;
+        }
+
+        /// <summary>
+        /// Writes the complete state — settings (forgetting factor, both penalties, prior, intercept, standardization, invalid-sample policy),
+        /// p, <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, <see cref="WeightSum"/>, <see cref="DiscountedCount"/>, the overflow
+        /// guard's sum of squares and the factor T — as a versioned, checksummed snapshot (kind "SquareRootEstimator", layout version 1).
+        /// </summary>
+        /// <param name="destination">Writable stream; the snapshot is written at its current position and the stream is left open.</param>
+        /// <param name="encoding">Compact binary (default) or indented JSON with the same entries (settings by name, doubles in shortest
+        /// round-trip form).</param>
+        /// <remarks>
+        /// <see cref="ReadSnapshot"/> of the result gives an estimator whose every later result is bit-identical to this one's (the cached
+        /// solution is not stored: it is a deterministic function of the state and is recomputed on the first read). Does not change the
+        /// estimator and does not solve. Cost O(c²) time, O(c²) allocation (about 8c² bytes binary, about 25c² JSON). Not thread-safe with
+        /// respect to a concurrent update.
+        /// </remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="destination"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not writable, or <paramref name="encoding"/> is undefined.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public void WriteSnapshot(Stream destination, SnapshotEncoding encoding = SnapshotEncoding.Binary)
+        {
+            var record = new StateRecord(SnapshotKind, SnapshotVersion)
+                .Add("parameterCount", (long)p)
+                .Add("forgettingFactor", settings.ForgettingFactor)
+                .Add("penalty", settings.Penalty)
+                .Add("decayingPriorWeight", settings.DecayingPriorWeight)
+                .Add("prior", SnapshotSupport.PriorEntry(settings.Prior))
+                .Add("fitIntercept", settings.FitIntercept)
+                .Add("standardize", settings.Standardize)
+                .Add("invalidSamples", SnapshotSupport.PolicyName(settings.InvalidSamples))
+                .Add("sampleCount", count)
+                .Add("skippedSampleCount", skipped)
+                .Add("weightSum", weightSum)
+                .Add("discountedCount", discountedCount)
+                .Add("sumOfSquares", sumOfSquares)
+                .Add("factor", triangle);
+            SnapshotSupport.Write(record, destination, encoding);
+        }
+
+        /// <summary>
+        /// Restores an estimator from a snapshot of <see cref="WriteSnapshot"/> in either encoding (detected from the content), read from the
+        /// current position of <paramref name="source"/> to its end.
+        /// </summary>
+        /// <param name="source">Readable stream holding exactly one snapshot.</param>
+        /// <returns>A new estimator in exactly the saved state (settings, counts, factor): its results are bit-identical to those the saved
+        /// estimator would have given.</returns>
+        /// <remarks>
+        /// Validates everything before building the estimator: the checksum, the kind and layout version, every setting (with the ranges of
+        /// <see cref="SquareRootSettings"/>), p, the lengths of the prior and the factor, a finite upper-triangular factor with non-negative
+        /// diagonal, finite non-negative counts, and that the stored sum of squares bounds the factor (so the overflow guard still holds).
+        /// Cost O(c²) time and allocation. Thread-safe (it touches no shared state).
+        /// </remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="source"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not readable.</exception>
+        /// <exception cref="SnapshotFormatException">Not a snapshot, corrupt or truncated, another kind or an unsupported version, or content
+        /// that fails validation; nothing is returned.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public static SquareRootEstimator ReadSnapshot(Stream source)
+        {
+            StateRecord r = SnapshotSupport.Read(source, SnapshotKind, SnapshotVersion);
+            int p = SnapshotSupport.ParameterCount(r, "parameterCount", 20000);
+            double[]? prior = SnapshotSupport.Prior(r, "prior", p);
+            SquareRootSettings settings = SnapshotSupport.Settings(() => new SquareRootSettings
+            {
+                ForgettingFactor = r.GetDouble("forgettingFactor"),
+                Penalty = r.GetDouble("penalty"),
+                DecayingPriorWeight = r.GetDouble("decayingPriorWeight"),
+                Prior = prior,
+                FitIntercept = r.GetBoolean("fitIntercept"),
+                Standardize = r.GetBoolean("standardize"),
+                InvalidSamples = SnapshotSupport.Policy(r, "invalidSamples"),
+            });
+
+            long count = SnapshotSupport.Count(r, "sampleCount");
+            long skipped = SnapshotSupport.Count(r, "skippedSampleCount");
+            double weightSum = SnapshotSupport.NonNegative(r, "weightSum");
+            double discounted = SnapshotSupport.NonNegative(r, "discountedCount");
+            double sumOfSquares = SnapshotSupport.NonNegative(r, "sumOfSquares");
+            if (sumOfSquares > SumOfSquaresLimit)
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'sumOfSquares' = {0:R} exceeds the overflow limit {1:R}", sumOfSquares, SumOfSquaresLimit);
+            }
+
+            int c = p + (settings.FitIntercept ? 2 : 1);
+            double[] factor = SnapshotSupport.FiniteArray(r, "factor", c * c);
+            double frobenius = 0.0;
+            for (int i = 0; i < c; i++)
+            {
+                for (int j = 0; j < c; j++)
+                {
+                    double v = factor[(i * c) + j];
+                    if ((j < i && v != 0.0) || (j == i && v < 0.0))
+                    {
+                        throw SnapshotSupport.Invalid("snapshot entry 'factor'[{0}, {1}] = {2:R}: the factor must be upper triangular with a non-negative diagonal", i, j, v);
+                    }
+
+                    frobenius += v * v;
+                }
+            }
+
+            // Orthogonal rotations keep ‖T‖²_F equal to the tracked sum of squares up to rounding.
+            if (!(frobenius <= (sumOfSquares * (1.0 + 1e-6)) + 1e-300))
+            {
+                throw SnapshotSupport.Invalid("the factor (squared norm {0:R}) is inconsistent with 'sumOfSquares' = {1:R}", frobenius, sumOfSquares);
+            }
+
+            var est = new SquareRootEstimator(p, settings);
+            factor.AsSpan().CopyTo(est.triangle);
+            est.count = count;
+            est.skipped = skipped;
+            est.weightSum = weightSum;
+            est.discountedCount = discounted;
+            est.sumOfSquares = sumOfSquares;
+            return est;
         }
 
         private void EnsureSolved()

@@ -27,6 +27,7 @@ namespace OnlineRidge
         private readonly double penalty;
         private readonly double decayingPriorWeight;
         private readonly double[]? prior;
+        private readonly InvalidSamplePolicy invalidSamples = InvalidSamplePolicy.Throw;
 
         /// <summary>The default settings (ordinary recursive least squares with an intercept and standardization, no forgetting).</summary>
         public static SquareRootSettings Default { get; } = new();
@@ -116,6 +117,23 @@ namespace OnlineRidge
         /// (see the remarks of <see cref="SquareRootEstimator"/>).
         /// </summary>
         public bool Standardize { get; init; } = true;
+
+        /// <summary>
+        /// What an update does with an unusable sample (NaN or ∞ in x or y, a negative, NaN or infinite weight): throw (default,
+        /// <see cref="InvalidSamplePolicy.Throw"/>) or skip it and count it in <see cref="SquareRootEstimator.SkippedSampleCount"/>
+        /// (<see cref="InvalidSamplePolicy.SkipAndCount"/>, for streams with sensor dropouts). A regressor vector of the wrong length always
+        /// throws. Not part of the objective: estimators with different policies can be merged.
+        /// </summary>
+        /// <exception cref="ArgumentOutOfRangeException">Not a defined <see cref="InvalidSamplePolicy"/> value.</exception>
+        public InvalidSamplePolicy InvalidSamples
+        {
+            get => invalidSamples;
+            init
+            {
+                Guard.Policy(value, nameof(InvalidSamples));
+                invalidSamples = value;
+            }
+        }
 
         /// <summary>True when <paramref name="other"/> defines the same objective (all properties equal, prior compared entry by entry).</summary>
         internal bool SameObjective(SquareRootSettings other)

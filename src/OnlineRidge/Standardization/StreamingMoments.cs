@@ -1,5 +1,7 @@
 using System;
+using System.IO;
 using OnlineRidge.Internal;
+using OnlineRidge.Persistence;
 
 namespace OnlineRidge.Standardization
 {
@@ -19,9 +21,12 @@ namespace OnlineRidge.Standardization
     /// Samples of weight 0 only forget (W and M are multiplied by β, the means are unchanged).</para>
     /// <para><b>Cost.</b> d(d+1)/2 + O(d) multiply-adds per update (one more per entry when β &lt; 1), no allocation; storage d(d+1)/2 + 2d doubles.
     /// Merge O(d²).</para>
-    /// <para><b>Failures.</b> Wrong length, non-finite values or a negative weight throw <see cref="ArgumentException"/> before any change. An
+    /// <para><b>Failures.</b> Wrong length, non-finite values or a negative weight throw <see cref="ArgumentException"/> before any change
+    /// (with <see cref="InvalidSamplePolicy.SkipAndCount"/> a non-finite entry or a bad weight is instead skipped and counted in
+    /// <see cref="SkippedSampleCount"/>; a wrong length still throws). An
     /// update that would overflow throws <see cref="RidgeBreakdownException"/> (<see cref="BreakdownKind.NonFinite"/>; or false from
     /// <see cref="TryUpdate"/>) and changes nothing.</para>
+    /// <para><b>Persistence.</b> <see cref="WriteSnapshot"/> and <see cref="ReadSnapshot"/> save and restore the complete state bit for bit.</para>
     /// <para><b>Threads and reproducibility.</b> Not thread-safe (one writer; readers must synchronize). Same inputs, runtime and hardware give the
     /// same bits; the last bits may differ between the net10.0 and netstandard2.0 builds.</para>
     /// </remarks>
@@ -32,14 +37,21 @@ namespace OnlineRidge.Standardization
         private readonly double[] mean;
         private readonly double[] comoment;
         private readonly double[] delta;
+        private readonly InvalidSamplePolicy invalidSamples;
         private double weightSum;
         private double trace;
+        private long skipped;
+
+        private const string SnapshotKind = "StreamingMoments";
+        private const int SnapshotVersion = 1;
 
         /// <summary>Creates an empty state for vectors of length <paramref name="dimension"/>.</summary>
         /// <param name="dimension">Length d ≥ 1 of every vector.</param>
         /// <param name="forgettingFactor">Forgetting factor β in (0, 1]; 1 (default) means none.</param>
-        /// <exception cref="ArgumentOutOfRangeException">d below 1, or β outside (0, 1].</exception>
-        public StreamingMoments(int dimension, double forgettingFactor = 1.0)
+        /// <param name="invalidSamples">What <see cref="Update(ReadOnlySpan{double}, double)"/> does with a vector holding NaN or ∞ or a
+        /// negative, NaN or infinite weight: throw (default) or skip it and count it in <see cref="SkippedSampleCount"/>.</param>
+        /// <exception cref="ArgumentOutOfRangeException">d below 1, β outside (0, 1], or an undefined policy.</exception>
+        public StreamingMoments(int dimension, double forgettingFactor = 1.0, InvalidSamplePolicy invalidSamples = InvalidSamplePolicy.Throw)
         {
             if (dimension < 1)
             {
@@ -47,6 +59,8 @@ namespace OnlineRidge.Standardization
             }
 
             Guard.ForgettingFactor(forgettingFactor, nameof(forgettingFactor));
+            Guard.Policy(invalidSamples, nameof(invalidSamples));
+            this.invalidSamples = invalidSamples;
             d = dimension;
             beta = forgettingFactor;
             mean = new double[d];
@@ -63,6 +77,15 @@ namespace OnlineRidge.Standardization
         /// <summary>Number of updates so far, including zero-weight updates (after a merge: the sum of both counts).</summary>
         public long SampleCount { get; private set; }
 
+        /// <summary>What an update does with an unusable vector or weight (see the constructor).</summary>
+        public InvalidSamplePolicy InvalidSamples => invalidSamples;
+
+        /// <summary>
+        /// Number of vectors skipped as unusable under <see cref="InvalidSamplePolicy.SkipAndCount"/> (after a merge: the sum of both); they
+        /// are not in <see cref="SampleCount"/> and did not forget. O(1).
+        /// </summary>
+        public long SkippedSampleCount => skipped;
+
         /// <summary>Total effective weight W = Σ βⁿ⁻ⁱwᵢ (MATH.md §4.1, §9).</summary>
         public double WeightSum => weightSum;
 
@@ -73,14 +96,15 @@ namespace OnlineRidge.Standardization
 
         /// <summary>Adds the vector <paramref name="u"/> with weight 1. O(d²), no allocation.</summary>
         /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
-        /// <exception cref="ArgumentException">Wrong length or a non-finite entry.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or a non-finite entry under <see cref="InvalidSamplePolicy.Throw"/>.</exception>
         /// <exception cref="RidgeBreakdownException">The update would overflow; nothing changed.</exception>
         public void Update(ReadOnlySpan<double> u) => Update(u, 1.0);
 
         /// <summary>Adds the vector <paramref name="u"/> with weight <paramref name="weight"/> (0 only forgets). O(d²), no allocation.</summary>
         /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
         /// <param name="weight">Weight, finite and ≥ 0.</param>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite entry or a negative weight.</exception>
+        /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite entry or a negative
+        /// or non-finite weight (under <see cref="InvalidSamplePolicy.SkipAndCount"/> those are skipped and counted).</exception>
         /// <exception cref="RidgeBreakdownException">The update would overflow; nothing changed.</exception>
         public void Update(ReadOnlySpan<double> u, double weight)
         {
@@ -94,11 +118,19 @@ namespace OnlineRidge.Standardization
         /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
         /// <param name="weight">Weight, finite and ≥ 0.</param>
         /// <param name="breakdown"><see cref="BreakdownKind.NonFinite"/> on overflow, otherwise <see cref="BreakdownInfo.None"/>.</param>
-        /// <returns>True when the sample was accepted.</returns>
-        /// <exception cref="ArgumentException">Wrong length, a non-finite entry or a negative weight.</exception>
+        /// <returns>True when the sample was accepted (or skipped by <see cref="InvalidSamplePolicy.SkipAndCount"/>).</returns>
+        /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite entry or a negative
+        /// or non-finite weight.</exception>
         public bool TryUpdate(ReadOnlySpan<double> u, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(u.Length, d, nameof(u));
+            if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(u, 0.0, weight))
+            {
+                skipped++;
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
             Guard.AllFinite(u, nameof(u));
             Guard.Weight(weight, nameof(weight));
             return TryUpdateValidated(u, weight, out breakdown);
@@ -241,7 +273,8 @@ namespace OnlineRidge.Standardization
         /// Merges <paramref name="later"/> into this state (MATH.md §4.2, Chan, Golub &amp; LeVeque 1979/1983): this state covers the earlier
         /// samples, <paramref name="later"/> the <c>later.SampleCount</c> steps after them. This state is first aged by β^k (k = later.SampleCount),
         /// then W = W_A + W_B, m = m_A + (W_B/W)(m_B − m_A), M = M_A + M_B + (W_A·W_B/W)(m_B − m_A)(m_B − m_A)ᵀ.
-        /// Afterwards this state equals (to rounding) one that saw both streams in order. <paramref name="later"/> is not changed (it may be this object).
+        /// Afterwards this state equals (to rounding) one that saw both streams in order; the skipped-sample counts add (the policies may
+        /// differ). <paramref name="later"/> is not changed (it may be this object).
         /// O(d²), no allocation.
         /// </summary>
         /// <param name="later">State of the later samples, same dimension and forgetting factor.</param>
@@ -296,6 +329,7 @@ namespace OnlineRidge.Standardization
             }
 
             long count = SampleCount + later.SampleCount;
+            long laterSkipped = later.skipped;
             if (wa == 0.0)
             {
                 later.mean.AsSpan().CopyTo(mean);
@@ -325,8 +359,105 @@ namespace OnlineRidge.Standardization
             weightSum = w;
             trace = newTrace;
             SampleCount = count;
+            skipped += laterSkipped;
             breakdown = BreakdownInfo.None;
             return true;
+        }
+
+        /// <summary>
+        /// Writes the complete state — dimension, forgetting factor, invalid-sample policy, <see cref="SampleCount"/>,
+        /// <see cref="SkippedSampleCount"/>, <see cref="WeightSum"/>, the overflow guard's trace, the means and the packed co-moment — as a
+        /// versioned, checksummed snapshot (kind "StreamingMoments", layout version 1).
+        /// </summary>
+        /// <param name="destination">Writable stream; written at its position and left open.</param>
+        /// <param name="encoding">Binary (default) or indented JSON with the same entries.</param>
+        /// <remarks><see cref="ReadSnapshot"/> of the result continues bit-identically. Does not change the state. O(d²) time and allocation.
+        /// Not thread-safe with respect to a concurrent update.</remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="destination"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not writable, or <paramref name="encoding"/> is undefined.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public void WriteSnapshot(Stream destination, SnapshotEncoding encoding = SnapshotEncoding.Binary)
+        {
+            var record = new StateRecord(SnapshotKind, SnapshotVersion)
+                .Add("dimension", (long)d)
+                .Add("forgettingFactor", beta)
+                .Add("invalidSamples", SnapshotSupport.PolicyName(invalidSamples));
+            AddStateTo(record, string.Empty);
+            SnapshotSupport.Write(record, destination, encoding);
+        }
+
+        /// <summary>
+        /// Restores a state from a snapshot of <see cref="WriteSnapshot"/> in either encoding (detected from the content), read from the current
+        /// position of <paramref name="source"/> to its end.
+        /// </summary>
+        /// <param name="source">Readable stream holding exactly one snapshot.</param>
+        /// <returns>A new object in exactly the saved state.</returns>
+        /// <remarks>Validates the checksum, kind, version, settings, lengths, finiteness, non-negative variances and counts, and that the stored
+        /// trace bounds the co-moment's diagonal, before building anything. O(d²). Thread-safe.</remarks>
+        /// <exception cref="ArgumentNullException"><paramref name="source"/> is null.</exception>
+        /// <exception cref="ArgumentException">The stream is not readable.</exception>
+        /// <exception cref="SnapshotFormatException">Not a valid snapshot of this kind (see <see cref="SnapshotFormatException"/>); nothing is returned.</exception>
+        /// <exception cref="IOException">The stream failed.</exception>
+        public static StreamingMoments ReadSnapshot(Stream source)
+        {
+            StateRecord r = SnapshotSupport.Read(source, SnapshotKind, SnapshotVersion);
+            int d = SnapshotSupport.ParameterCount(r, "dimension", 1 << 15);
+            double beta = r.GetDouble("forgettingFactor");
+            InvalidSamplePolicy policy = SnapshotSupport.Policy(r, "invalidSamples");
+            StreamingMoments m = SnapshotSupport.Settings(() => new StreamingMoments(d, beta, policy));
+            m.RestoreStateFrom(r, string.Empty);
+            return m;
+        }
+
+        /// <summary>Adds the state entries (not the settings) under <paramref name="prefix"/>, for this type's and an owner's snapshot.</summary>
+        internal void AddStateTo(StateRecord record, string prefix)
+        {
+            record.Add(prefix + "sampleCount", SampleCount)
+                .Add(prefix + "skippedSampleCount", skipped)
+                .Add(prefix + "weightSum", weightSum)
+                .Add(prefix + "trace", trace)
+                .Add(prefix + "means", mean)
+                .Add(prefix + "comoment", comoment);
+        }
+
+        /// <summary>Validates the state entries under <paramref name="prefix"/> and copies them into this (fresh) object; throws SnapshotFormatException.</summary>
+        internal void RestoreStateFrom(StateRecord record, string prefix)
+        {
+            long count = SnapshotSupport.Count(record, prefix + "sampleCount");
+            long skippedCount = SnapshotSupport.Count(record, prefix + "skippedSampleCount");
+            double w = SnapshotSupport.NonNegative(record, prefix + "weightSum");
+            double tr = SnapshotSupport.NonNegative(record, prefix + "trace");
+            if (!(tr < OverflowLevel))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry '{0}trace' = {1:R} exceeds the overflow limit", prefix, tr);
+            }
+
+            double[] means = SnapshotSupport.FiniteArray(record, prefix + "means", d);
+            double[] packed = SnapshotSupport.FiniteArray(record, prefix + "comoment", comoment.Length);
+            double diagonal = 0.0;
+            for (int j = 0; j < d; j++)
+            {
+                double v = packed[RecursiveKernels.RowOffset(j, d)];
+                if (!(v >= 0.0))
+                {
+                    throw SnapshotSupport.Invalid("snapshot entry '{0}comoment' has the negative diagonal entry {1:R} at {2}", prefix, v, j);
+                }
+
+                diagonal += v;
+            }
+
+            // The tracked trace equals tr(M) up to rounding; the overflow guard relies on it bounding M.
+            if (!(diagonal <= (tr * (1.0 + 1e-6)) + 1e-300))
+            {
+                throw SnapshotSupport.Invalid("the co-moment (trace {0:R}) is inconsistent with '{1}trace' = {2:R}", diagonal, prefix, tr);
+            }
+
+            means.AsSpan().CopyTo(mean);
+            packed.AsSpan().CopyTo(comoment);
+            weightSum = w;
+            trace = tr;
+            SampleCount = count;
+            skipped = skippedCount;
         }
 
         /// <summary>β^k for a step count k (1 when β = 1).</summary>

@@ -263,7 +263,7 @@ namespace OnlineRidge.Tests.Batch
             }
 
             double required = limit == RidgeSettings.DefaultCholeskyConditionLimit ? 7.0 : Math.Min(7.0, 16.0 - Math.Log10(limit) - Math.Log10(10.0 * (ds.Columns + 1)));
-            var digits = NistCertifiedTests.Digits(ds, fit);
+            var digits = ds.Digits(fit);
             Assert.True(digits.Coefficients >= required, $"Cholesky accepted Filip (condition estimate {fit.ConditionEstimate:E2}) with {digits.Coefficients:F1} digits < {required:F1}");
         }
 

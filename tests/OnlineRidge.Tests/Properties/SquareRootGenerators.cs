@@ -340,13 +340,13 @@ namespace OnlineRidge.Tests.Properties
             Arb.From(Cases(minP, maxP, extraN, decaying, forgetting), Shrink);
 
         /// <summary>
-        /// Runs <paramref name="body"/> (which throws on failure) on <see cref="CaseCount"/> cases from a fixed seed (a property's own
-        /// <paramref name="seed"/>), throwing with the shrunk counterexample on failure.
+        /// Runs <paramref name="body"/> (which throws on failure) on <see cref="CaseCount"/> cases (or <paramref name="cases"/>) from a fixed
+        /// seed (a property's own <paramref name="seed"/>), throwing with the shrunk counterexample on failure.
         /// </summary>
-        public static void Check(Arbitrary<SquareRootCase> arbitrary, ulong seed, Action<SquareRootCase> body)
+        public static void Check(Arbitrary<SquareRootCase> arbitrary, ulong seed, Action<SquareRootCase> body, int? cases = null)
         {
             Config config = Config.QuickThrowOnFailure
-                .WithMaxTest(CaseCount)
+                .WithMaxTest(cases ?? CaseCount)
                 .WithReplay(new Replay(new Rnd(seed, 0x9E3779B97F4A7C15UL), null));
             Prop.ForAll(arbitrary, body).Check(config);
         }

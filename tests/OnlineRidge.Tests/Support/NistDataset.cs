@@ -145,6 +145,24 @@ namespace OnlineRidge.Tests.Support
             return err == 0.0 ? 15.0 : Math.Min(15.0, Math.Max(0.0, -Math.Log10(err)));
         }
 
+        /// <summary>Digits reached by a fit: the minimum LRE over coefficients (intercept first), standard errors, residual SD and R².</summary>
+        public (double Coefficients, double StandardErrors, double ResidualSd, double RSquared) Digits(RidgeFit fit)
+        {
+            var estimates = new List<double>();
+            var errors = new List<double>();
+            if (HasIntercept)
+            {
+                estimates.Add(fit.Intercept);
+                errors.Add(fit.InterceptStandardError);
+            }
+
+            estimates.AddRange(fit.Coefficients);
+            errors.AddRange(fit.StandardErrors ?? Enumerable.Repeat(double.NaN, fit.ParameterCount));
+            double coefficients = estimates.Select((v, k) => Lre(v, CertifiedEstimates[k])).Min();
+            double standardErrors = errors.Select((v, k) => Lre(v, CertifiedStandardErrors[k])).Min();
+            return (coefficients, standardErrors, Lre(fit.ResidualStandardDeviation, CertifiedResidualSd), Lre(fit.RSquared, CertifiedRSquared));
+        }
+
         private static string[] Split(string line) => line.Split(new[] { ' ', '\t' }, StringSplitOptions.RemoveEmptyEntries);
 
         private static double Parse(string s) => double.Parse(s, NumberStyles.Float, CultureInfo.InvariantCulture);
