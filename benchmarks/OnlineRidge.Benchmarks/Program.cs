@@ -35,11 +35,17 @@ namespace OnlineRidge.Benchmarks
         {
             // Job.Dry: one launch, one iteration, no pilot or warm-up. In-process, so no project is generated and built.
             BatchFitBenchmarks.Smoke = true;
+            RecursiveUpdateBenchmarks.Smoke = true;
             var config = ManualConfig.CreateMinimumViable()
                 .AddJob(Job.Dry.WithToolchain(InProcessEmitToolchain.Instance).WithId("Smoke"))
                 .WithOptions(ConfigOptions.DisableLogFile);
-            var summary = BenchmarkRunner.Run<BatchFitBenchmarks>(config);
-            return Failed(new[] { summary }) ? 1 : 0;
+            var summaries = new[]
+            {
+                BenchmarkRunner.Run<BatchFitBenchmarks>(config),
+                BenchmarkRunner.Run<RecursiveUpdateBenchmarks>(config),
+                BenchmarkRunner.Run<RecursiveSolveBenchmarks>(config),
+            };
+            return Failed(summaries) ? 1 : 0;
         }
 
         private static bool Failed(Summary[] summaries) =>
