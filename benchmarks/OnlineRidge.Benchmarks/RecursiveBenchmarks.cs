@@ -11,7 +11,11 @@ namespace OnlineRidge.Benchmarks
     /// <see cref="BenchmarkAttribute.OperationsPerInvoke"/> divides by its length, so the Mean column is nanoseconds per update and the
     /// Allocated column bytes per update. The baseline is the covariance-form recursion a developer would write with MathNet matrix objects.
     /// </summary>
+    /// <remarks>On a shared, oversubscribed machine run with short iterations (e.g. <c>--iterationTime 5 --iterationCount 41</c>) and read the
+    /// Min and Median columns: an iteration that fits in one scheduler slice measures the undisturbed cost.</remarks>
     [MemoryDiagnoser]
+    [MinColumn]
+    [MedianColumn]
     public class RecursiveUpdateBenchmarks
     {
         /// <summary>Samples in the stream; every benchmark method folds in all of them per invocation.</summary>
@@ -148,6 +152,8 @@ namespace OnlineRidge.Benchmarks
     /// the information form factors and solves the penalized normal equations (Cholesky with a condition estimate).
     /// </summary>
     [MemoryDiagnoser]
+    [MinColumn]
+    [MedianColumn]
     public class RecursiveSolveBenchmarks
     {
         private const int Seed = 20_261_204;

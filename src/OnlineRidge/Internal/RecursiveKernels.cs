@@ -92,20 +92,20 @@ namespace OnlineRidge.Internal
         /// </summary>
         public static int CovarianceUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, out int failIndex, out double failValue)
         {
+            // One pass per row: destination = (source + a·v)/β with a = −g·vᵢ, and the finiteness probe of the new row, fused so that each
+            // entry is loaded and stored once (the same operations, in the same order, as copy, axpy, divide and check in turn).
             int o = 0;
             for (int i = 0; i < d; i++)
             {
                 int len = d - i;
                 ReadOnlySpan<double> src = source.Slice(o, len);
                 Span<double> dst = destination.Slice(o, len);
-                src.CopyTo(dst);
-                Axpy(-g * v[i], v.Slice(i, len), dst);
-                if (beta != 1.0)
-                {
-                    Divide(dst, beta);
-                }
+                double probe = beta == 1.0
+                    ? RankOneRow(src, dst, -g * v[i], v.Slice(i, len))
+                    : RankOneRowDivide(src, dst, -g * v[i], v.Slice(i, len), beta);
 
-                int code = CheckRow(dst);
+                // 0·value is 0 for finite values and NaN for ±∞ and NaN, so one sum tests the whole row without branches and cannot overflow.
+                int code = probe != 0.0 ? 1 : (dst[0] > 0.0 ? 0 : 2);
                 if (code != 0)
                 {
                     failIndex = i;
@@ -119,6 +119,77 @@ namespace OnlineRidge.Internal
             failIndex = -1;
             failValue = double.NaN;
             return 0;
+        }
+
+        /// <summary>dst ← src + a·x over x's length; returns Σ 0·dstⱼ (0 exactly when every new entry is finite).</summary>
+        private static double RankOneRow(ReadOnlySpan<double> src, Span<double> dst, double a, ReadOnlySpan<double> x)
+        {
+            int n = x.Length;
+            int j = 0;
+            double probe = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vs = MemoryMarshal.Cast<double, Vector<double>>(src.Slice(0, n));
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vd = MemoryMarshal.Cast<double, Vector<double>>(dst.Slice(0, n));
+                var va = new Vector<double>(a);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    Vector<double> value = vs[k] + (va * vx[k]);
+                    vd[k] = value;
+                    acc += Vector<double>.Zero * value;
+                }
+
+                probe = Vector.Sum(acc);
+                j = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                double value = src[j] + (a * x[j]);
+                dst[j] = value;
+                probe += 0.0 * value;
+            }
+
+            return probe;
+        }
+
+        /// <summary>dst ← (src + a·x)/β over x's length; returns Σ 0·dstⱼ (0 exactly when every new entry is finite).</summary>
+        private static double RankOneRowDivide(ReadOnlySpan<double> src, Span<double> dst, double a, ReadOnlySpan<double> x, double beta)
+        {
+            int n = x.Length;
+            int j = 0;
+            double probe = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vs = MemoryMarshal.Cast<double, Vector<double>>(src.Slice(0, n));
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vd = MemoryMarshal.Cast<double, Vector<double>>(dst.Slice(0, n));
+                var va = new Vector<double>(a);
+                var vb = new Vector<double>(beta);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    Vector<double> value = (vs[k] + (va * vx[k])) / vb;
+                    vd[k] = value;
+                    acc += Vector<double>.Zero * value;
+                }
+
+                probe = Vector.Sum(acc);
+                j = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                double value = (src[j] + (a * x[j])) / beta;
+                dst[j] = value;
+                probe += 0.0 * value;
+            }
+
+            return probe;
         }
 
         /// <summary>
