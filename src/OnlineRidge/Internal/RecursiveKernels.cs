@@ -36,15 +36,46 @@ namespace OnlineRidge.Internal
             {
                 int len = d - i;
                 ReadOnlySpan<double> row = packed.Slice(o, len);
-                // Row i of the upper triangle contributes (P x)_i over j ≥ i and, through symmetry, x_i·P_ij to (P x)_j for j > i.
-                v[i] += Dot(row, x.Slice(i, len));
-                if (len > 1)
-                {
-                    Axpy(x[i], row.Slice(1), v.Slice(i + 1, len - 1));
-                }
 
+                // Row i of the upper triangle contributes (P x)_i over j ≥ i and, through symmetry, x_i·P_ij to (P x)_j for j > i:
+                // one pass over the row does both, so each entry is loaded once.
+                v[i] += (row[0] * x[i]) + DotAxpy(row.Slice(1), x.Slice(i + 1, len - 1), x[i], v.Slice(i + 1, len - 1));
                 o += len;
             }
+        }
+
+        /// <summary>Returns Σ rⱼ bⱼ and sets y ← y + a·r, over r's length, in one pass.</summary>
+        private static double DotAxpy(ReadOnlySpan<double> r, ReadOnlySpan<double> b, double a, Span<double> y)
+        {
+            int n = r.Length;
+            int j = 0;
+            double s = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vr = MemoryMarshal.Cast<double, Vector<double>>(r);
+                ReadOnlySpan<Vector<double>> vb = MemoryMarshal.Cast<double, Vector<double>>(b.Slice(0, n));
+                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y.Slice(0, n));
+                var va = new Vector<double>(a);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vr.Length; k++)
+                {
+                    Vector<double> rk = vr[k];
+                    acc += rk * vb[k];
+                    vy[k] += va * rk;
+                }
+
+                s = Vector.Sum(acc);
+                j = vr.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                s += r[j] * b[j];
+                y[j] += a * r[j];
+            }
+
+            return s;
         }
 
         /// <summary>P ← scale·P + coefficient·u·uᵀ on the packed upper triangle (order d). d(d+1)/2 multiply-adds (one more per entry when scale ≠ 1).</summary>
