@@ -38,11 +38,16 @@ namespace OnlineRidge.Benchmarks
             BatchStageBenchmarks.Smoke = true;
             BatchSolveBenchmarks.Smoke = true;
             RegularizationPathBenchmarks.Smoke = true;
+            RecursiveUpdateBenchmarks.Smoke = true;
             var config = ManualConfig.CreateMinimumViable()
                 .AddJob(Job.Dry.WithToolchain(InProcessEmitToolchain.Instance).WithId("Smoke"))
                 .WithOptions(ConfigOptions.DisableLogFile);
             var summaries = BenchmarkRunner.Run(
-                new[] { typeof(BatchFitBenchmarks), typeof(BatchStageBenchmarks), typeof(BatchSolveBenchmarks), typeof(RegularizationPathBenchmarks) },
+                new[]
+                {
+                    typeof(BatchFitBenchmarks), typeof(BatchStageBenchmarks), typeof(BatchSolveBenchmarks), typeof(RegularizationPathBenchmarks),
+                    typeof(RecursiveUpdateBenchmarks), typeof(RecursiveSolveBenchmarks),
+                },
                 config);
             return Failed(summaries) ? 1 : 0;
         }

@@ -2,6 +2,7 @@ using System;
 using System.Runtime.CompilerServices;
 #if NET
 using System.Numerics;
+using System.Runtime.InteropServices;
 #endif
 
 namespace OnlineRidge.Internal
@@ -32,10 +33,14 @@ namespace OnlineRidge.Internal
                 }
             }
 
+            // The entry of u that the next rotation annihilates is carried in a register: it is the first element of the current row's
+            // tail, computed before the rest of the tail so that the next square root and divisions (the latency chain of the update)
+            // can start while the current row is still being rotated, and without a store-to-load round trip through u.
+            double tj = start < c ? u[start] : 0.0;
             for (int j = start; j < c; j++)
             {
                 int row = j * c;
-                double tj = u[j];
+                int len = c - j - 1;
                 if (tj == 0.0)
                 {
                     if (q != 1.0)
@@ -43,20 +48,34 @@ namespace OnlineRidge.Internal
                         ScaleRange(t.Slice(row + j, c - j), q);
                     }
 
+                    tj = len > 0 ? u[j + 1] : 0.0;
                     continue;
                 }
 
                 double a = q * t[row + j];
                 double r = Hypot(a, tj);
-                double gamma = a / r;
-                double sigma = tj / r;
                 t[row + j] = r;
                 u[j] = 0.0;
-                int len = c - j - 1;
-                if (len > 0)
+                if (len == 0)
                 {
-                    Rotate(t.Slice(row + j + 1, len), u.Slice(j + 1, len), gamma, sigma, q);
+                    break;
                 }
+
+                double gamma = a / r;
+                double sigma = tj / r;
+                double gq = gamma * q;
+                double sq = sigma * q;
+                double t1 = t[row + j + 1];
+                double u1 = u[j + 1];
+                t[row + j + 1] = (gq * t1) + (sigma * u1);
+                double next = (gamma * u1) - (sq * t1);
+                u[j + 1] = next;
+                if (len > 1)
+                {
+                    Rotate(t.Slice(row + j + 2, len - 1), u.Slice(j + 2, len - 1), gamma, sigma, gq, sq);
+                }
+
+                tj = next;
             }
         }
 
@@ -73,16 +92,19 @@ namespace OnlineRidge.Internal
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public static double Hypot(double a, double b)
         {
+            // Direct formula when the sum of squares is comfortably normal: then the larger square is normal, the smaller one's underflow
+            // is negligible and nothing overflowed; the test is off the critical path of the rotation chain (no abs/compare/swap before it).
+            double s = (a * a) + (b * b);
+            if (s >= 1e-290 && s <= 1e290)
+            {
+                return Math.Sqrt(s);
+            }
+
             a = Math.Abs(a);
             b = Math.Abs(b);
             if (a < b)
             {
                 (a, b) = (b, a);
-            }
-
-            if (a < 1e150 && b > 1e-150)
-            {
-                return Math.Sqrt((a * a) + (b * b));
             }
 
             if (a == 0.0)
@@ -94,27 +116,28 @@ namespace OnlineRidge.Internal
             return a * Math.Sqrt(1.0 + (ratio * ratio));
         }
 
-        /// <summary>(t, u) ← (γq·t + σ·u, −σq·t + γ·u) elementwise.</summary>
-        private static void Rotate(Span<double> t, Span<double> u, double gamma, double sigma, double q)
+        /// <summary>(t, u) ← (γq·t + σ·u, −σq·t + γ·u) elementwise, with gq = γq and sq = σq.</summary>
+        private static void Rotate(Span<double> t, Span<double> u, double gamma, double sigma, double gq, double sq)
         {
-            double gq = gamma * q;
-            double sq = sigma * q;
             int k = 0;
 #if NET
             if (Vector.IsHardwareAccelerated && t.Length >= Vector<double>.Count)
             {
-                int width = Vector<double>.Count;
+                Span<Vector<double>> tv = MemoryMarshal.Cast<double, Vector<double>>(t);
+                Span<Vector<double>> uv = MemoryMarshal.Cast<double, Vector<double>>(u.Slice(0, t.Length));
                 var vgq = new Vector<double>(gq);
                 var vsq = new Vector<double>(sq);
                 var vg = new Vector<double>(gamma);
                 var vs = new Vector<double>(sigma);
-                for (; k <= t.Length - width; k += width)
+                for (int m = 0; m < tv.Length; m++)
                 {
-                    var tv = new Vector<double>(t.Slice(k, width));
-                    var uv = new Vector<double>(u.Slice(k, width));
-                    ((vgq * tv) + (vs * uv)).CopyTo(t.Slice(k, width));
-                    ((vg * uv) - (vsq * tv)).CopyTo(u.Slice(k, width));
+                    Vector<double> tk = tv[m];
+                    Vector<double> uk = uv[m];
+                    tv[m] = (vgq * tk) + (vs * uk);
+                    uv[m] = (vg * uk) - (vsq * tk);
                 }
+
+                k = tv.Length * Vector<double>.Count;
             }
 #endif
             for (; k < t.Length; k++)

@@ -36,15 +36,46 @@ namespace OnlineRidge.Internal
             {
                 int len = d - i;
                 ReadOnlySpan<double> row = packed.Slice(o, len);
-                // Row i of the upper triangle contributes (P x)_i over j ≥ i and, through symmetry, x_i·P_ij to (P x)_j for j > i.
-                v[i] += Dot(row, x.Slice(i, len));
-                if (len > 1)
-                {
-                    Axpy(x[i], row.Slice(1), v.Slice(i + 1, len - 1));
-                }
 
+                // Row i of the upper triangle contributes (P x)_i over j ≥ i and, through symmetry, x_i·P_ij to (P x)_j for j > i:
+                // one pass over the row does both, so each entry is loaded once.
+                v[i] += (row[0] * x[i]) + DotAxpy(row.Slice(1), x.Slice(i + 1, len - 1), x[i], v.Slice(i + 1, len - 1));
                 o += len;
             }
+        }
+
+        /// <summary>Returns Σ rⱼ bⱼ and sets y ← y + a·r, over r's length, in one pass.</summary>
+        private static double DotAxpy(ReadOnlySpan<double> r, ReadOnlySpan<double> b, double a, Span<double> y)
+        {
+            int n = r.Length;
+            int j = 0;
+            double s = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vr = MemoryMarshal.Cast<double, Vector<double>>(r);
+                ReadOnlySpan<Vector<double>> vb = MemoryMarshal.Cast<double, Vector<double>>(b.Slice(0, n));
+                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y.Slice(0, n));
+                var va = new Vector<double>(a);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vr.Length; k++)
+                {
+                    Vector<double> rk = vr[k];
+                    acc += rk * vb[k];
+                    vy[k] += va * rk;
+                }
+
+                s = Vector.Sum(acc);
+                j = vr.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                s += r[j] * b[j];
+                y[j] += a * r[j];
+            }
+
+            return s;
         }
 
         /// <summary>P ← scale·P + coefficient·u·uᵀ on the packed upper triangle (order d). d(d+1)/2 multiply-adds (one more per entry when scale ≠ 1).</summary>
@@ -92,20 +123,20 @@ namespace OnlineRidge.Internal
         /// </summary>
         public static int CovarianceUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, out int failIndex, out double failValue)
         {
+            // One pass per row: destination = (source + a·v)/β with a = −g·vᵢ, and the finiteness probe of the new row, fused so that each
+            // entry is loaded and stored once (the same operations, in the same order, as copy, axpy, divide and check in turn).
             int o = 0;
             for (int i = 0; i < d; i++)
             {
                 int len = d - i;
                 ReadOnlySpan<double> src = source.Slice(o, len);
                 Span<double> dst = destination.Slice(o, len);
-                src.CopyTo(dst);
-                Axpy(-g * v[i], v.Slice(i, len), dst);
-                if (beta != 1.0)
-                {
-                    Divide(dst, beta);
-                }
+                double probe = beta == 1.0
+                    ? RankOneRow(src, dst, -g * v[i], v.Slice(i, len))
+                    : RankOneRowDivide(src, dst, -g * v[i], v.Slice(i, len), beta);
 
-                int code = CheckRow(dst);
+                // 0·value is 0 for finite values and NaN for ±∞ and NaN, so one sum tests the whole row without branches and cannot overflow.
+                int code = probe != 0.0 ? 1 : (dst[0] > 0.0 ? 0 : 2);
                 if (code != 0)
                 {
                     failIndex = i;
@@ -119,6 +150,77 @@ namespace OnlineRidge.Internal
             failIndex = -1;
             failValue = double.NaN;
             return 0;
+        }
+
+        /// <summary>dst ← src + a·x over x's length; returns Σ 0·dstⱼ (0 exactly when every new entry is finite).</summary>
+        private static double RankOneRow(ReadOnlySpan<double> src, Span<double> dst, double a, ReadOnlySpan<double> x)
+        {
+            int n = x.Length;
+            int j = 0;
+            double probe = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vs = MemoryMarshal.Cast<double, Vector<double>>(src.Slice(0, n));
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vd = MemoryMarshal.Cast<double, Vector<double>>(dst.Slice(0, n));
+                var va = new Vector<double>(a);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    Vector<double> value = vs[k] + (va * vx[k]);
+                    vd[k] = value;
+                    acc += Vector<double>.Zero * value;
+                }
+
+                probe = Vector.Sum(acc);
+                j = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                double value = src[j] + (a * x[j]);
+                dst[j] = value;
+                probe += 0.0 * value;
+            }
+
+            return probe;
+        }
+
+        /// <summary>dst ← (src + a·x)/β over x's length; returns Σ 0·dstⱼ (0 exactly when every new entry is finite).</summary>
+        private static double RankOneRowDivide(ReadOnlySpan<double> src, Span<double> dst, double a, ReadOnlySpan<double> x, double beta)
+        {
+            int n = x.Length;
+            int j = 0;
+            double probe = 0.0;
+#if NET
+            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
+            {
+                ReadOnlySpan<Vector<double>> vs = MemoryMarshal.Cast<double, Vector<double>>(src.Slice(0, n));
+                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
+                Span<Vector<double>> vd = MemoryMarshal.Cast<double, Vector<double>>(dst.Slice(0, n));
+                var va = new Vector<double>(a);
+                var vb = new Vector<double>(beta);
+                Vector<double> acc = Vector<double>.Zero;
+                for (int k = 0; k < vx.Length; k++)
+                {
+                    Vector<double> value = (vs[k] + (va * vx[k])) / vb;
+                    vd[k] = value;
+                    acc += Vector<double>.Zero * value;
+                }
+
+                probe = Vector.Sum(acc);
+                j = vx.Length * Vector<double>.Count;
+            }
+#endif
+            for (; j < n; j++)
+            {
+                double value = (src[j] + (a * x[j])) / beta;
+                dst[j] = value;
+                probe += 0.0 * value;
+            }
+
+            return probe;
         }
 
         /// <summary>
