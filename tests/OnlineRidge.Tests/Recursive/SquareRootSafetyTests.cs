@@ -16,6 +16,8 @@ namespace OnlineRidge.Tests.Recursive
     /// </summary>
     public class SquareRootSafetyTests
     {
+        private const int Cases = 150;
+
         private static SquareRootSettings WithPolicy(SquareRootSettings s, InvalidSamplePolicy policy) => new()
         {
             ForgettingFactor = s.ForgettingFactor,
@@ -97,7 +99,7 @@ namespace OnlineRidge.Tests.Recursive
                     AssertUnchanged(e, "destination", () => e.CopyParametersTo(new double[c.P - 1]), "short destination");
                     AssertUnchanged(e, "encoding", () => e.WriteSnapshot(new MemoryStream(), (SnapshotEncoding)7), "undefined encoding");
                 }
-            });
+            }, Cases);
         }
 
         /// <summary>
@@ -152,7 +154,7 @@ namespace OnlineRidge.Tests.Recursive
                 double[]? actual = Parameters(skipping, out BreakdownInfo ba);
                 Assert.Equal(be, ba);
                 SnapshotBytes.AssertBitEqual(expected, actual, "parameters");
-            });
+            }, Cases);
         }
 
         /// <summary>
@@ -234,7 +236,7 @@ namespace OnlineRidge.Tests.Recursive
                     Assert.Equal(be, ba);
                     SnapshotBytes.AssertBitEqual(expected, actual, $"{encoding} parameters");
                 }
-            });
+            }, Cases);
         }
 
         /// <summary>
@@ -267,7 +269,7 @@ namespace OnlineRidge.Tests.Recursive
                 }
 
                 SnapshotBytes.AssertSame(Bytes(running), Bytes(restored), "final state");
-            });
+            }, Cases);
         }
 
         private static byte[] Reference(out SquareRootEstimator est)
@@ -357,6 +359,15 @@ namespace OnlineRidge.Tests.Recursive
             {
                 Assert.Contains(expected, json, StringComparison.Ordinal);
             }
+        }
+
+        /// <summary>Theorem (DESIGN.md tier 1): an undefined policy is refused by the setting, naming it and the value.</summary>
+        [Fact]
+        public void UndefinedPolicyIsRefusedNamingTheSetting()
+        {
+            var ex = Assert.Throws<ArgumentOutOfRangeException>(() => new SquareRootSettings { InvalidSamples = (InvalidSamplePolicy)3 });
+            Assert.Equal(nameof(SquareRootSettings.InvalidSamples), ex.ParamName);
+            Assert.Contains("3", ex.Message, StringComparison.Ordinal);
         }
     }
 }
