@@ -21,6 +21,13 @@ namespace OnlineRidge
     /// <para><b>Algorithm</b> (per sample x, y, w): v = P·x, s = xᵀv, d = β + w·s, k = (w/d)·v, e = y − xᵀθ (a-priori error),
     /// θ ← θ + k·e, P ← (P − k·vᵀ)/β computed on the upper triangle only (or the Joseph-like form, <see cref="CovarianceUpdate"/>);
     /// minimal cost J*ₙ = β·J*ₙ₋₁ + β·w·e²/d. A zero-weight sample only forgets: θ unchanged, P ← P/β.</para>
+    /// <para><b>Windup.</b> <see cref="CovarianceFormSettings.Windup"/> selects a remedy of MATH.md §2.4 (see <see cref="WindupProtection"/>):
+    /// none (the regime-D objective above); a trace bound, which replaces β by βₙ = max(β, tr(Pₙ₋₁)/c_max) and keeps a batch objective with the
+    /// recorded factors (<see cref="LogForgettingProduct"/>, <see cref="LastForgettingFactor"/>); EFRA (Salgado, Goodwin &amp; Middleton 1988),
+    /// which keeps σ_lo·I ⪯ P ⪯ σ_hi·I (<see cref="CovarianceLowerBound"/>, <see cref="CovarianceUpperBound"/>) at about p³/2 extra
+    /// multiply-adds; or directional forgetting (Kulhavý 1987; Bittanti, Bolzern &amp; Campi 1990), which forgets only along the current
+    /// regressor. The last two minimize no batch objective (<see cref="MinimumCost"/> is NaN). The update form setting applies to none and the
+    /// trace bound; EFRA and directional forgetting use their own symmetric updates. The guards below apply to every policy.</para>
     /// <para><b>Cost.</b> About 1.5·p² multiply-adds per update (2.5·p² Joseph-like), no allocation; storage p(p+1) + 4p doubles (the covariance
     /// is double-buffered so that a failed update leaves it untouched).</para>
     /// <para><b>Accuracy.</b> Not backward stable: the error behaves like ε·κ_path, κ_path = maxₖ cond(Hₖ) over the whole run (MATH.md §2.2
