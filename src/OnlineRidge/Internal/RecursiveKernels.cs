@@ -260,6 +260,75 @@ namespace OnlineRidge.Internal
             return 0;
         }
 
+        /// <summary>
+        /// EFRA covariance update (MATH.md §2.4c, Salgado, Goodwin &amp; Middleton 1988): destination ← source/β − g·v·vᵀ + b·I − c·source²,
+        /// upper triangle, with g = α·w/(1 + w·xᵀPx) and v = P·x computed by the caller. Row i of source² is source·(column i of source),
+        /// formed in <paramref name="column"/> and <paramref name="product"/> (length d each), so the cost is about d³/2 + 2·d² multiply-adds.
+        /// Same return convention as <see cref="CovarianceUpdate"/>.
+        /// </summary>
+        public static int ResettingUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, double addition, double contraction, Span<double> column, Span<double> product, out int failIndex, out double failValue)
+        {
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                int len = d - i;
+                for (int k = 0; k < d; k++)
+                {
+                    column[k] = Get(source, d, k, i);
+                }
+
+                // Only entries j ≥ i of row i of source² are needed: (source²)_ij = Σ_k source_jk·column_k.
+                for (int j = i; j < d; j++)
+                {
+                    double acc = 0.0;
+                    for (int k = 0; k < j; k++)
+                    {
+                        acc += source[Index(k, j, d)] * column[k];
+                    }
+
+                    acc += Dot(source.Slice(RowOffset(j, d), d - j), column.Slice(j, d - j));
+                    product[j] = acc;
+                }
+
+                ReadOnlySpan<double> src = source.Slice(o, len);
+                Span<double> dst = destination.Slice(o, len);
+                double gi = g * v[i];
+                for (int j = 0; j < len; j++)
+                {
+                    dst[j] = (src[j] / beta) - (gi * v[i + j]) - (contraction * product[i + j]);
+                }
+
+                dst[0] += addition;
+                int code = CheckRow(dst);
+                if (code != 0)
+                {
+                    failIndex = i;
+                    failValue = dst[0];
+                    return code;
+                }
+
+                o += len;
+            }
+
+            failIndex = -1;
+            failValue = double.NaN;
+            return 0;
+        }
+
+        /// <summary>Trace of a packed upper triangle of order d (sum of the diagonal entries). d additions.</summary>
+        public static double Trace(ReadOnlySpan<double> packed, int d)
+        {
+            double t = 0.0;
+            int o = 0;
+            for (int i = 0; i < d; i++)
+            {
+                t += packed[o];
+                o += d - i;
+            }
+
+            return t;
+        }
+
         /// <summary>Writes the full d×d row-major matrix (both triangles) of a packed upper triangle.</summary>
         public static void Unpack(ReadOnlySpan<double> packed, int d, Span<double> full)
         {

@@ -21,6 +21,13 @@ namespace OnlineRidge
     /// <para><b>Algorithm</b> (per sample x, y, w): v = P·x, s = xᵀv, d = β + w·s, k = (w/d)·v, e = y − xᵀθ (a-priori error),
     /// θ ← θ + k·e, P ← (P − k·vᵀ)/β computed on the upper triangle only (or the Joseph-like form, <see cref="CovarianceUpdate"/>);
     /// minimal cost J*ₙ = β·J*ₙ₋₁ + β·w·e²/d. A zero-weight sample only forgets: θ unchanged, P ← P/β.</para>
+    /// <para><b>Windup.</b> <see cref="CovarianceFormSettings.Windup"/> selects a remedy of MATH.md §2.4 (see <see cref="WindupProtection"/>):
+    /// none (the regime-D objective above); a trace bound, which replaces β by βₙ = max(β, tr(Pₙ₋₁)/c_max) and keeps a batch objective with the
+    /// recorded factors (<see cref="LogForgettingProduct"/>, <see cref="LastForgettingFactor"/>); EFRA (Salgado, Goodwin &amp; Middleton 1988),
+    /// which keeps σ_lo·I ⪯ P ⪯ σ_hi·I (<see cref="CovarianceLowerBound"/>, <see cref="CovarianceUpperBound"/>) at about p³/2 extra
+    /// multiply-adds; or directional forgetting (Kulhavý 1987; Bittanti, Bolzern &amp; Campi 1990), which forgets only along the current
+    /// regressor. The last two minimize no batch objective (<see cref="MinimumCost"/> is NaN). The update form setting applies to none and the
+    /// trace bound; EFRA and directional forgetting use their own symmetric updates. The guards below apply to every policy.</para>
     /// <para><b>Cost.</b> About 1.5·p² multiply-adds per update (2.5·p² Joseph-like), no allocation; storage p(p+1) + 4p doubles (the covariance
     /// is double-buffered so that a failed update leaves it untouched).</para>
     /// <para><b>Accuracy.</b> Not backward stable: the error behaves like ε·κ_path, κ_path = maxₖ cond(Hₖ) over the whole run (MATH.md §2.2
@@ -46,6 +53,18 @@ namespace OnlineRidge
         private readonly bool skipInvalid;
         private const string SnapshotKind = "CovarianceFormEstimator";
         private const int SnapshotVersion = 1;
+        private readonly WindupProtectionKind windupKind;
+        private readonly double logBeta;
+        private readonly double traceLimit;
+        private readonly double resettingGain;
+        private readonly double resettingAddition;
+        private readonly double resettingContraction;
+        private readonly double directionalFactor;
+        private readonly double deadZone;
+        private readonly double[] column;
+        private readonly double[] product;
+        private double logForgettingProduct;
+        private double lastForgettingFactor = double.NaN;
         private readonly double[] v;
         private readonly double[] gain;
         private double[] covariance;
@@ -95,6 +114,40 @@ namespace OnlineRidge
             beta = settings.ForgettingFactor;
             updateForm = settings.Update;
             skipInvalid = settings.InvalidSamples == InvalidSamplePolicy.SkipAndCount;
+            logBeta = Math.Log(beta);
+            WindupProtection windup = settings.Windup;
+            windupKind = windup.Kind;
+            traceLimit = windup.TraceLimit;
+            resettingGain = windup.ResettingGain;
+            resettingAddition = windup.ResettingAddition;
+            resettingContraction = windup.ResettingContraction;
+            directionalFactor = windup.DirectionalFactor;
+            deadZone = windup.DeadZone;
+            (double lowerBound, double upperBound) = windup.Bounds(beta);
+            CovarianceLowerBound = lowerBound;
+            CovarianceUpperBound = upperBound;
+            if (windupKind == WindupProtectionKind.ExponentialResetting)
+            {
+                if (!(beta < 1.0))
+                {
+                    Guard.ThrowArgument(nameof(settings), "settings.Windup = ExponentialResetting needs settings.ForgettingFactor < 1 (MATH.md §2.4c); it is 1.");
+                }
+
+                double eta = (1.0 - beta) / beta;
+                double lhs = (eta * eta) + (4.0 * resettingAddition * resettingContraction);
+                double rhs = (1.0 - resettingGain) * (1.0 - resettingGain);
+                if (!(lhs <= rhs))
+                {
+                    Guard.ThrowArgument(nameof(settings), FormattableString.Invariant(
+                        $"settings.Windup = {windup} with settings.ForgettingFactor = {beta:R} breaks the invariant-bound condition η² + 4bc ≤ (1 − α)² of MATH.md §2.4c: {lhs:R} > {rhs:R} (η = (1 − β)/β = {eta:R}); lower b or c, or raise β."));
+                }
+            }
+            else if (windupKind == WindupProtectionKind.Directional && beta != 1.0)
+            {
+                Guard.ThrowArgument(nameof(settings), FormattableString.Invariant(
+                    $"settings.Windup = Directional replaces exponential forgetting and needs settings.ForgettingFactor = 1; it is {beta:R}."));
+            }
+
             IReadOnlyList<double>? prior = settings.Prior;
             if (prior is not null && prior.Count != p)
             {
@@ -108,6 +161,8 @@ namespace OnlineRidge
             thetaNext = new double[p];
             v = new double[p];
             gain = new double[p];
+            column = new double[p];
+            product = new double[p];
             if (prior is not null)
             {
                 for (int j = 0; j < p; j++)
@@ -122,7 +177,7 @@ namespace OnlineRidge
             }
             else if (initialState == InitialState.FromPriorWeight)
             {
-                double p0 = 1.0 / settings.PriorWeight;
+                double p0 = windupKind == WindupProtectionKind.ExponentialResetting ? CovarianceUpperBound : 1.0 / settings.PriorWeight;
                 if (double.IsInfinity(p0))
                 {
                     Guard.ThrowArgument(nameof(settings), "settings.PriorWeight is so small that its reciprocal overflows.");
@@ -133,7 +188,44 @@ namespace OnlineRidge
                     covariance[RecursiveKernels.RowOffset(i, p)] = p0;
                 }
             }
+
+            if (initialState != InitialState.Restored && windupKind == WindupProtectionKind.TraceBound)
+            {
+                double trace = RecursiveKernels.Trace(covariance, p);
+                if (!(trace <= traceLimit))
+                {
+                    string name = initialState == InitialState.Explicit ? "initialCovariance" : nameof(settings);
+                    Guard.ThrowArgument(name, FormattableString.Invariant(
+                        $"The trace bound needs tr(P₀) ≤ c_max (MATH.md §2.4b): tr(P₀) = {trace:R} > settings.Windup.TraceLimit = {traceLimit:R}; raise the limit or the prior weight."));
+                }
+            }
         }
+
+        /// <summary>
+        /// Σⱼ ln βⱼ over the accepted updates: the log of the product of the forgetting factors actually used (n·ln β without protection,
+        /// the recorded variable factors under <see cref="WindupProtectionKind.TraceBound"/>, 0 under directional forgetting). O(1).
+        /// </summary>
+        /// <remarks>
+        /// What a batch reference of the trace bound needs (MATH.md §2.4b): record this value Lᵢ after update i; at time n sample i has effective
+        /// weight wᵢ·exp(Lₙ − Lᵢ) and the prior weight is exp(Lₙ)·Γ₀. Kept as a log because the product underflows on long runs (MATH.md §9).
+        /// Accumulated in double precision, one rounding per update.
+        /// </remarks>
+        public double LogForgettingProduct => logForgettingProduct;
+
+        /// <summary>The forgetting factor βₙ used by the last accepted update (NaN before the first). Equal to β unless the trace bound raised it. O(1).</summary>
+        public double LastForgettingFactor => lastForgettingFactor;
+
+        /// <summary>
+        /// Lower bound on the eigenvalues of P that the windup policy guarantees: σ_lo for <see cref="WindupProtectionKind.ExponentialResetting"/>
+        /// (MATH.md §2.4c), 0 otherwise. In floating point the bound holds up to rounding of relative order ε·cond(P). O(1).
+        /// </summary>
+        public double CovarianceLowerBound { get; }
+
+        /// <summary>
+        /// Upper bound on the eigenvalues of P that the windup policy guarantees: σ_hi for EFRA, c_max for the trace bound (an eigenvalue is
+        /// at most the trace), +∞ for none and for directional forgetting (which bounds only the unexcited directions). Up to rounding. O(1).
+        /// </summary>
+        public double CovarianceUpperBound { get; }
 
         /// <inheritdoc/>
         public int ParameterCount => p;
@@ -155,9 +247,10 @@ namespace OnlineRidge
 
         /// <summary>
         /// Minimal value J*ₙ = minθ Jₙ(θ) of the regime-D objective, by the recursion J*ₙ = β·J*ₙ₋₁ + β·w·e²/d, J*₀ = 0 (MATH.md §2.1).
-        /// O(1). Accuracy: relative error of order ε·κ_path (MATH.md §10).
+        /// O(1). Accuracy: relative error of order ε·κ_path (MATH.md §10). Under the trace bound βₙ replaces β (the objective with the recorded
+        /// factors); NaN under EFRA and directional forgetting, which minimize no objective.
         /// </summary>
-        public double MinimumCost => minimumCost;
+        public double MinimumCost => windupKind is WindupProtectionKind.ExponentialResetting or WindupProtectionKind.Directional ? double.NaN : minimumCost;
 
         /// <summary>A-priori error e = y − xᵀθₙ₋₁ of the last accepted update (before θ was updated), NaN before the first update. The
         /// a-posteriori error is (β/d)·e (MATH.md §2.1).</summary>
@@ -209,12 +302,41 @@ namespace OnlineRidge
             }
 
             Guard.Weight(weight, nameof(weight));
+            return Step(x, y, weight, out breakdown);
+        }
 
+        /// <summary>The update proper, on validated input (kept apart so that the checks and the skip path stay small).</summary>
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining)]
+        private bool Step(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
             double e = y - RecursiveKernels.Dot(x, theta);
             if (!Guard.IsFinite(e))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, e, double.NaN);
                 return false;
+            }
+
+            if (windupKind == WindupProtectionKind.ExponentialResetting)
+            {
+                return ResettingStep(x, weight, e, out breakdown);
+            }
+
+            if (windupKind == WindupProtectionKind.Directional)
+            {
+                return DirectionalStep(x, weight, e, out breakdown);
+            }
+
+            double factor = beta;
+            double logFactor = logBeta;
+            if (windupKind == WindupProtectionKind.TraceBound)
+            {
+                // MATH.md §2.4b: βₙ = max(β, tr(Pₙ₋₁)/c_max), clamped at 1 against a trace a few ulps above c_max.
+                double raised = Math.Min(1.0, RecursiveKernels.Trace(covariance, p) / traceLimit);
+                if (raised > factor)
+                {
+                    factor = raised;
+                    logFactor = Math.Log(raised);
+                }
             }
 
             int code;
@@ -224,15 +346,15 @@ namespace OnlineRidge
             if (weight == 0.0)
             {
                 // Pure forgetting step: θ unchanged, P ← P/β, J* ← β J*.
-                code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, 0.0, v, beta, out failIndex, out failValue);
-                newCost = beta * minimumCost;
+                code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, 0.0, v, factor, out failIndex, out failValue);
+                newCost = factor * minimumCost;
                 theta.AsSpan().CopyTo(thetaNext);
             }
             else
             {
                 RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
                 double s = RecursiveKernels.Dot(x, v);
-                double d = beta + (weight * s);
+                double d = factor + (weight * s);
                 if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
                 {
                     breakdown = double.IsInfinity(s) || double.IsInfinity(d) || double.IsNaN(s)
@@ -250,9 +372,9 @@ namespace OnlineRidge
                 }
 
                 code = updateForm == CovarianceUpdate.Symmetric
-                    ? RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, g, v, beta, out failIndex, out failValue)
-                    : RecursiveKernels.JosephUpdate(covariance, covarianceNext, p, gain, v, d / weight, beta, out failIndex, out failValue);
-                newCost = beta * (minimumCost + (weight * e * e / d));
+                    ? RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, g, v, factor, out failIndex, out failValue)
+                    : RecursiveKernels.JosephUpdate(covariance, covarianceNext, p, gain, v, d / weight, factor, out failIndex, out failValue);
+                newCost = factor * (minimumCost + (weight * e * e / d));
                 if (code == 0 && !(AllFinite(thetaNext) && Guard.IsFinite(newCost)))
                 {
                     code = 1;
@@ -267,12 +389,105 @@ namespace OnlineRidge
                 return false;
             }
 
+            minimumCost = newCost;
+            Commit(e, factor, logFactor);
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        private void Commit(double e, double factor, double logFactor)
+        {
             (covariance, covarianceNext) = (covarianceNext, covariance);
             (theta, thetaNext) = (thetaNext, theta);
-            minimumCost = newCost;
             lastError = e;
+            lastForgettingFactor = factor;
+            logForgettingProduct += logFactor;
             SampleCount++;
+        }
+
+        /// <summary>v = P·x and s = xᵀv with the guards of MATH.md §2.2 item 3 (s ≥ 0, finite); false with the breakdown otherwise.</summary>
+        private bool Project(ReadOnlySpan<double> x, double weight, out double s, out BreakdownInfo breakdown)
+        {
+            RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
+            s = RecursiveKernels.Dot(x, v);
+            double ws = weight * s;
+            if (!(s >= 0.0) || double.IsInfinity(ws))
+            {
+                breakdown = double.IsNaN(s) || double.IsInfinity(ws)
+                    ? new BreakdownInfo(BreakdownKind.NonFinite, -1, s, double.NaN)
+                    : new BreakdownInfo(BreakdownKind.LostDefiniteness, -1, s, double.NaN);
+                return false;
+            }
+
             breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>θₙ₋₁ + g·v·e into thetaNext; false when a value is not finite.</summary>
+        private bool StepParameters(double g, double e)
+        {
+            for (int j = 0; j < p; j++)
+            {
+                thetaNext[j] = theta[j] + (g * v[j] * e);
+            }
+
+            return AllFinite(thetaNext);
+        }
+
+        /// <summary>EFRA step (MATH.md §2.4c) with x, y scaled by √w (MATH.md §0).</summary>
+        private bool ResettingStep(ReadOnlySpan<double> x, double weight, double e, out BreakdownInfo breakdown)
+        {
+            if (!Project(x, weight, out double s, out breakdown))
+            {
+                return false;
+            }
+
+            double g = resettingGain * weight / (1.0 + (weight * s));
+            if (!StepParameters(g, e))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            int code = RecursiveKernels.ResettingUpdate(covariance, covarianceNext, p, g, v, beta, resettingAddition, resettingContraction, column, product, out int failIndex, out double failValue);
+            if (code != 0)
+            {
+                breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
+                return false;
+            }
+
+            Commit(e, beta, logBeta);
+            return true;
+        }
+
+        /// <summary>Directional-forgetting step (MATH.md §2.4d), optional dead zone w·s &lt; s_min.</summary>
+        private bool DirectionalStep(ReadOnlySpan<double> x, double weight, double e, out BreakdownInfo breakdown)
+        {
+            if (!Project(x, weight, out double s, out breakdown))
+            {
+                return false;
+            }
+
+            double onePlus = 1.0 + (weight * s);
+            if (!StepParameters(weight / onePlus, e))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            // ζ/(μ(1 + w·s)) with ζ = μ·w − (1 − μ)/s; without forgetting (s = 0 or dead zone) the plain β = 1 coefficient w/(1 + w·s).
+            double mu = directionalFactor;
+            double coefficient = s > 0.0 && weight * s >= deadZone
+                ? ((mu * weight) - ((1.0 - mu) / s)) / (mu * onePlus)
+                : weight / onePlus;
+            int code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, coefficient, v, 1.0, out int failIndex, out double failValue);
+            if (code != 0)
+            {
+                breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
+                return false;
+            }
+
+            Commit(e, 1.0, 0.0);
             return true;
         }
 
@@ -317,9 +532,11 @@ namespace OnlineRidge
         }
 
         /// <summary>
-        /// Writes the complete state — settings (forgetting factor, prior weight, prior, update form, invalid-sample policy), p,
-        /// <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, θ, the packed upper triangle of P, <see cref="MinimumCost"/> and
-        /// <see cref="LastPriorError"/> — as a versioned, checksummed snapshot (kind "CovarianceFormEstimator", layout version 1).
+        /// Writes the complete state — settings (forgetting factor, prior weight, prior, update form, invalid-sample policy, the windup policy
+        /// and its parameters), p, <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, θ, the packed upper triangle of P,
+        /// <see cref="MinimumCost"/>, <see cref="LastPriorError"/>, <see cref="LogForgettingProduct"/> and <see cref="LastForgettingFactor"/> — as a
+        /// versioned, checksummed snapshot (kind "CovarianceFormEstimator", layout version 1; the windup entries are part of layout 1 since
+        /// no snapshot without them was ever released).
         /// </summary>
         /// <param name="destination">Writable stream; written at its position and left open.</param>
         /// <param name="encoding">Binary (default) or indented JSON with the same entries (settings by name).</param>
@@ -340,12 +557,29 @@ namespace OnlineRidge
                 .Add("prior", SnapshotSupport.PriorEntry(settings.Prior))
                 .Add("update", settings.Update == CovarianceUpdate.JosephLike ? "JosephLike" : "Symmetric")
                 .Add("invalidSamples", SnapshotSupport.PolicyName(settings.InvalidSamples))
+                .Add("windup", settings.Windup.Kind.ToString())
                 .Add("sampleCount", SampleCount)
                 .Add("skippedSampleCount", SkippedSampleCount)
                 .Add("theta", theta)
                 .Add("covariance", covariance)
                 .Add("minimumCost", minimumCost)
-                .Add("lastPriorError", lastError);
+                .Add("lastPriorError", lastError)
+                .Add("logForgettingProduct", logForgettingProduct)
+                .Add("lastForgettingFactor", lastForgettingFactor);
+            WindupProtection windup = settings.Windup;
+            switch (windup.Kind)
+            {
+                case WindupProtectionKind.TraceBound:
+                    record.Add("traceLimit", windup.TraceLimit);
+                    break;
+                case WindupProtectionKind.ExponentialResetting:
+                    record.Add("resettingGain", windup.ResettingGain).Add("resettingAddition", windup.ResettingAddition).Add("resettingContraction", windup.ResettingContraction);
+                    break;
+                case WindupProtectionKind.Directional:
+                    record.Add("directionalFactor", windup.DirectionalFactor).Add("deadZone", windup.DeadZone);
+                    break;
+            }
+
             SnapshotSupport.Write(record, destination, encoding);
         }
 
@@ -382,6 +616,13 @@ namespace OnlineRidge
                 Prior = prior,
                 Update = update,
                 InvalidSamples = SnapshotSupport.Policy(r, "invalidSamples"),
+                Windup = SnapshotSupport.EnumMember<WindupProtectionKind>(r, "windup") switch
+                {
+                    WindupProtectionKind.TraceBound => WindupProtection.TraceBound(r.GetDouble("traceLimit")),
+                    WindupProtectionKind.ExponentialResetting => WindupProtection.ExponentialResetting(r.GetDouble("resettingGain"), r.GetDouble("resettingAddition"), r.GetDouble("resettingContraction")),
+                    WindupProtectionKind.Directional => WindupProtection.Directional(r.GetDouble("directionalFactor"), r.GetDouble("deadZone")),
+                    _ => WindupProtection.None,
+                },
             });
             long count = SnapshotSupport.Count(r, "sampleCount");
             long skippedCount = SnapshotSupport.Count(r, "skippedSampleCount");
@@ -403,7 +644,21 @@ namespace OnlineRidge
                 throw SnapshotSupport.Invalid("snapshot entry 'lastPriorError' = {0:R} must be finite (or NaN before the first update)", error);
             }
 
-            var est = new CovarianceFormEstimator(p, settings, ReadOnlySpan<double>.Empty, InitialState.Restored);
+            double logProduct = r.GetDouble("logForgettingProduct");
+            if (!(logProduct <= 0.0) || double.IsInfinity(logProduct))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'logForgettingProduct' = {0:R} must be a finite number <= 0", logProduct);
+            }
+
+            double lastFactor = r.GetDouble("lastForgettingFactor");
+            if (!(lastFactor > 0.0 && lastFactor <= 1.0) && !(double.IsNaN(lastFactor) && count == 0))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'lastForgettingFactor' = {0:R} must lie in (0, 1] (or be NaN before the first update)", lastFactor);
+            }
+
+            var est = SnapshotSupport.Settings(() => new CovarianceFormEstimator(p, settings, ReadOnlySpan<double>.Empty, InitialState.Restored));
+            est.logForgettingProduct = logProduct;
+            est.lastForgettingFactor = lastFactor;
             theta.AsSpan().CopyTo(est.theta);
             covariance.AsSpan().CopyTo(est.covariance);
             est.minimumCost = cost;

@@ -37,6 +37,7 @@ namespace OnlineRidge
         private readonly double[]? prior;
         private readonly CovarianceUpdate update = CovarianceUpdate.Symmetric;
         private readonly InvalidSamplePolicy invalidSamples = InvalidSamplePolicy.Throw;
+        private readonly WindupProtection windup = WindupProtection.None;
 
         /// <summary>
         /// Default of <see cref="PriorWeight"/>: 10⁻⁴ (P₀ = 10⁴·I). For regressors of order one this is the weight of a small fraction of one
@@ -137,6 +138,23 @@ namespace OnlineRidge
             {
                 Guard.Policy(value, nameof(InvalidSamples));
                 invalidSamples = value;
+            }
+        }
+
+        /// <summary>
+        /// The covariance-windup remedy (default <see cref="WindupProtection.None"/>, plain exponential forgetting; MATH.md §2.3–2.4). Only
+        /// <see cref="WindupProtectionKind.None"/> and <see cref="WindupProtectionKind.TraceBound"/> keep a batch objective; see
+        /// <see cref="WindupProtection"/> for the trade-offs. Conditions that involve <see cref="ForgettingFactor"/> or the initial covariance are
+        /// checked by the estimator's constructor.
+        /// </summary>
+        /// <exception cref="ArgumentNullException">Null.</exception>
+        public WindupProtection Windup
+        {
+            get => windup;
+            init
+            {
+                Guard.NotNull(value, nameof(Windup));
+                windup = value;
             }
         }
     }

@@ -202,15 +202,22 @@ namespace OnlineRidge.Tests.Persistence
             double[] dropout = (double[])c.X[0].Clone();
             dropout[0] = double.NaN;
             form.Update(est, dropout, 1.0, 1.0);
-            long start = GC.GetAllocatedBytesForCurrentThread();
-            for (int i = 0; i < 100_000; i++)
+            // Two measured rounds: the runtime's tiering may allocate once on the calling thread during the first (seen with dynamic PGO);
+            // an allocation per skipped sample would show in both.
+            long allocated = long.MaxValue;
+            for (int round = 0; round < 2; round++)
             {
-                form.Update(est, dropout, 1.0, 1.0);
+                long start = GC.GetAllocatedBytesForCurrentThread();
+                for (int i = 0; i < 100_000; i++)
+                {
+                    form.Update(est, dropout, 1.0, 1.0);
+                }
+
+                allocated = GC.GetAllocatedBytesForCurrentThread() - start;
             }
 
-            long allocated = GC.GetAllocatedBytesForCurrentThread() - start;
             Assert.Equal(0, allocated);
-            Assert.Equal(100_001, form.SkippedCount(est));
+            Assert.Equal(200_001, form.SkippedCount(est));
             SnapshotBytes.AssertSame(before, SnapshotBytes.Edit(form.Bytes(est), "skippedSampleCount", 0L), "skipped samples change only the counter");
         }
 

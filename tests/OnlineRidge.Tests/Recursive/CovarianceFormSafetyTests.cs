@@ -25,6 +25,7 @@ namespace OnlineRidge.Tests.Recursive
                 Prior = c.Prior,
                 Update = (c.Seed / 2) % 2 == 0 ? CovarianceUpdate.Symmetric : CovarianceUpdate.JosephLike,
                 InvalidSamples = policy,
+                Windup = WindupOf(c),
             }),
             Update = (e, x, y, w) => e.Update(x, y, w),
             TryUpdate = (e, x, y, w) => (e.TryUpdate(x, y, w, out BreakdownInfo bd), bd),
@@ -38,7 +39,7 @@ namespace OnlineRidge.Tests.Recursive
                 var cov = new double[e.ParameterCount * e.ParameterCount];
                 e.CopyParametersTo(theta);
                 e.CopyCovarianceTo(cov);
-                return theta.Concat(cov).Concat(new[] { e.MinimumCost, e.LastPriorError, e.Predict(theta) }).ToArray();
+                return theta.Concat(cov).Concat(new[] { e.MinimumCost, e.LastPriorError, e.Predict(theta), e.LogForgettingProduct, e.LastForgettingFactor }).ToArray();
             },
             BadQueries = (e, badX) => new (string, Action)[]
             {
@@ -47,8 +48,26 @@ namespace OnlineRidge.Tests.Recursive
                 ("destination", () => e.CopyParametersTo(new double[e.ParameterCount - 1])),
                 ("destination", () => e.CopyCovarianceTo(new double[(e.ParameterCount * e.ParameterCount) - 1])),
             },
-            NegativeAllowed = new[] { "lastPriorError" },
+            NegativeAllowed = new[] { "lastPriorError", "logForgettingProduct" },
         };
+
+        /// <summary>
+        /// A windup policy chosen by the case's seed so that the safety properties cover all four: none; a trace bound twice tr(P₀); EFRA with
+        /// α = 0.5, b = c = 10⁻³ when β allows it (η² + 4bc ≤ (1 − α)², MATH.md §2.4c); directional forgetting μ = 0.95 (with a dead zone in
+        /// half of those cases) when β = 1.
+        /// </summary>
+        internal static WindupProtection WindupOf(SquareRootCase c)
+        {
+            double eta = (1.0 - c.Beta) / c.Beta;
+            double delta = c.Penalty > 0.0 ? c.Penalty : CovarianceFormSettings.DefaultPriorWeight;
+            return (((uint)c.Seed / 4) % 4) switch
+            {
+                1 => WindupProtection.TraceBound(2.0 * c.P / delta),
+                2 when c.Beta < 1.0 && (eta * eta) + 4e-6 <= 0.25 => WindupProtection.ExponentialResetting(0.5, 1e-3, 1e-3),
+                3 when c.Beta == 1.0 => WindupProtection.Directional(0.95, (c.Seed / 16) % 2 == 0 ? 0.0 : 1e-3),
+                _ => WindupProtection.None,
+            };
+        }
 
         private static CovarianceFormEstimator Reference()
         {
