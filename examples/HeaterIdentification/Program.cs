@@ -1,3 +1,4 @@
+using System.Collections.Generic;
 using System;
 using System.Globalization;
 using System.IO;
@@ -56,9 +57,8 @@ namespace HeaterIdentification
             };
             var estimator = new SquareRootEstimator(p, settings);
 
-            // Same rows with forgetting β²: its factor R₂ gives G₂ = R₂ᵀR₂ for the sandwich covariance (MATH.md §6.2–6.5).
-            var squaredForgetting = new SquareRootEstimator(p, new SquareRootSettings { ForgettingFactor = ForgettingFactor * ForgettingFactor, FitIntercept = false, Standardize = false });
-            var uncertainty = new SandwichUncertainty(p, Penalty);
+            // Exact uncertainty under forgetting: a second factor of the same rows forgotten with β² gives G₂ for σ̂²·H⁻¹G₂H⁻¹ (MATH.md §6.2–6.5).
+            var uncertainty = new StreamingUncertainty(p, settings);
 
             // Reference scales for the monitor: the spread of each regressor during the commissioning stretch (the first excited segment).
             double[] referenceScales = arx.RegressorSpread(plant.Output, plant.Input, arx.FirstUsableTime, HeaterPlant.Schedule[0].End);
@@ -83,7 +83,7 @@ namespace HeaterIdentification
                 history.PredictionError[t] = y - estimator.Predict(x); // one step ahead, before the update
 
                 estimator.Update(x, y);
-                squaredForgetting.Update(x, y);
+                uncertainty.Update(x);
                 monitor.Update(x);
                 if (t % MonitorEvery == 0)
                 {
@@ -93,7 +93,11 @@ namespace HeaterIdentification
                 }
 
                 estimator.CopyParametersTo(theta);
-                uncertainty.Compute(estimator, squaredForgetting, se);
+                IReadOnlyList<double>? errors = uncertainty.Evaluate(estimator).StandardErrors;
+                for (int j = 0; j < p; j++)
+                {
+                    se[j] = errors is null ? double.NaN : errors[j];
+                }
                 history.Record(t, theta, se, sufficient, weakest);
             }
 
@@ -264,175 +268,6 @@ namespace HeaterIdentification
         }
     }
 
-    /// <summary>
-    /// Standard errors of the forgetting, constant-penalty estimate from the estimators' factors (MATH.md §6.3–6.5):
-    /// C = H⁻¹G₂H⁻¹ with H = RᵀR + λI (R from the β estimator, so RᵀR = G) and G₂ = R₂ᵀR₂ (the β² estimator),
-    /// σ̂² = RSS/ν with ν = N − 2 tr(H⁻¹G₂) + tr(H⁻¹GH⁻¹G₂), se_j = σ̂·√C_jj. O(p³) per call with p = 4; buffers allocated once.
-    /// </summary>
-    internal sealed class SandwichUncertainty
-    {
-        private readonly int p;
-        private readonly double penalty;
-        private readonly double[] factor;
-        private readonly double[] gram;
-        private readonly double[] gram2;
-        private readonly double[] inverse;
-        private readonly double[] work;
-        private readonly double[] left;
-        private readonly double[] right;
-
-        public SandwichUncertainty(int parameterCount, double penalty)
-        {
-            p = parameterCount;
-            this.penalty = penalty;
-            factor = new double[(p + 1) * (p + 1)];
-            gram = new double[p * p];
-            gram2 = new double[p * p];
-            inverse = new double[p * p];
-            work = new double[p * 2 * p];
-            left = new double[p * p];
-            right = new double[p * p];
-        }
-
-        public void Compute(SquareRootEstimator estimator, SquareRootEstimator squaredForgetting, Span<double> standardErrors)
-        {
-            GramOfLeadingBlock(estimator, gram);
-            GramOfLeadingBlock(squaredForgetting, gram2);
-            for (int i = 0; i < p * p; i++)
-            {
-                inverse[i] = gram[i];
-            }
-
-            for (int i = 0; i < p; i++)
-            {
-                inverse[(i * p) + i] += penalty;
-            }
-
-            Invert(inverse);
-            Multiply(inverse, gram2, left);      // H⁻¹G₂
-            Multiply(inverse, gram, right);      // H⁻¹G
-            double trLeft = 0.0, trBoth = 0.0;
-            for (int i = 0; i < p; i++)
-            {
-                trLeft += left[(i * p) + i];
-                for (int k = 0; k < p; k++)
-                {
-                    trBoth += right[(i * p) + k] * left[(k * p) + i]; // tr(H⁻¹G · H⁻¹G₂)
-                }
-            }
-
-            double nu = estimator.DiscountedCount - (2.0 * trLeft) + trBoth;
-            double sigma2 = nu >= 1.0 ? estimator.ResidualSumOfSquares / nu : double.NaN;
-            for (int j = 0; j < p; j++)
-            {
-                double c = 0.0; // (H⁻¹G₂H⁻¹)_jj = Σ_k (H⁻¹G₂)_jk (H⁻¹)_kj
-                for (int k = 0; k < p; k++)
-                {
-                    c += left[(j * p) + k] * inverse[(k * p) + j];
-                }
-
-                standardErrors[j] = Math.Sqrt(sigma2 * Math.Max(c, 0.0));
-            }
-        }
-
-        /// <summary>RᵀR for the leading p × p block R of the factor (columns x, y without intercept).</summary>
-        private void GramOfLeadingBlock(SquareRootEstimator source, double[] destination)
-        {
-            int c = source.FactorOrder;
-            source.CopyFactorTo(factor);
-            for (int i = 0; i < p; i++)
-            {
-                for (int j = 0; j < p; j++)
-                {
-                    double s = 0.0;
-                    for (int k = 0; k <= Math.Min(i, j); k++)
-                    {
-                        s += factor[(k * c) + i] * factor[(k * c) + j];
-                    }
-
-                    destination[(i * p) + j] = s;
-                }
-            }
-        }
-
-        private void Multiply(double[] a, double[] b, double[] result)
-        {
-            for (int i = 0; i < p; i++)
-            {
-                for (int j = 0; j < p; j++)
-                {
-                    double s = 0.0;
-                    for (int k = 0; k < p; k++)
-                    {
-                        s += a[(i * p) + k] * b[(k * p) + j];
-                    }
-
-                    result[(i * p) + j] = s;
-                }
-            }
-        }
-
-        /// <summary>In-place Gauss–Jordan inverse with partial pivoting (H is symmetric positive definite, λ &gt; 0; p = 4).</summary>
-        private void Invert(double[] a)
-        {
-            int w = 2 * p;
-            for (int i = 0; i < p; i++)
-            {
-                for (int j = 0; j < p; j++)
-                {
-                    work[(i * w) + j] = a[(i * p) + j];
-                    work[(i * w) + p + j] = i == j ? 1.0 : 0.0;
-                }
-            }
-
-            for (int col = 0; col < p; col++)
-            {
-                int pivot = col;
-                for (int r = col + 1; r < p; r++)
-                {
-                    if (Math.Abs(work[(r * w) + col]) > Math.Abs(work[(pivot * w) + col]))
-                    {
-                        pivot = r;
-                    }
-                }
-
-                for (int k = 0; k < w && pivot != col; k++)
-                {
-                    (work[(col * w) + k], work[(pivot * w) + k]) = (work[(pivot * w) + k], work[(col * w) + k]);
-                }
-
-                double d = work[(col * w) + col];
-                for (int k = 0; k < w; k++)
-                {
-                    work[(col * w) + k] /= d;
-                }
-
-                for (int r = 0; r < p; r++)
-                {
-                    double f = work[(r * w) + col];
-                    if (r == col || f == 0.0)
-                    {
-                        continue;
-                    }
-
-                    for (int k = 0; k < w; k++)
-                    {
-                        work[(r * w) + k] -= f * work[(col * w) + k];
-                    }
-                }
-            }
-
-            for (int i = 0; i < p; i++)
-            {
-                for (int j = 0; j < p; j++)
-                {
-                    a[(i * p) + j] = work[(i * w) + p + j];
-                }
-            }
-        }
-    }
-
-    /// <summary>Per-step record of the estimate, its standard errors, the monitor's verdict and the prediction error.</summary>
     internal sealed class Trajectories
     {
         public Trajectories(int steps, int p)
