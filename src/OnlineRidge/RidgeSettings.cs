@@ -99,23 +99,7 @@ namespace OnlineRidge
         public IReadOnlyList<double>? Prior
         {
             get => prior;
-            init
-            {
-                if (value is null)
-                {
-                    prior = null;
-                    return;
-                }
-
-                var copy = new double[value.Count];
-                for (int i = 0; i < copy.Length; i++)
-                {
-                    copy[i] = value[i];
-                }
-
-                Guard.AllFinite(copy, nameof(Prior));
-                prior = copy;
-            }
+            init => prior = Guard.FiniteCopy(value, nameof(Prior));
         }
 
         /// <summary>The solver (default <see cref="RidgeSolver.Auto"/>); see <see cref="RidgeSolver"/> for the trade-offs.</summary>

@@ -138,7 +138,6 @@ namespace OnlineRidge
                 }
             }
 
-            double[] lm = l;
             for (int r = 0; r < m; r++)
             {
                 for (int c = 0; c < m; c++)
@@ -146,7 +145,7 @@ namespace OnlineRidge
                     double s = 0.0;
                     for (int t = 0; t < q; t++)
                     {
-                        s += lm[(r * q) + t] * l[(c * q) + t];
+                        s += l[(r * q) + t] * l[(c * q) + t];
                     }
 
                     cov[(r * m) + c] = s;

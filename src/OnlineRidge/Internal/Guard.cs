@@ -44,6 +44,24 @@ namespace OnlineRidge.Internal
             }
         }
 
+        /// <summary>A copy of an optional vector setting (null stays null), rejecting any non-finite entry with the setting's name.</summary>
+        public static double[]? FiniteCopy(System.Collections.Generic.IReadOnlyList<double>? value, string paramName)
+        {
+            if (value is null)
+            {
+                return null;
+            }
+
+            var copy = new double[value.Count];
+            for (int i = 0; i < copy.Length; i++)
+            {
+                copy[i] = value[i];
+            }
+
+            AllFinite(copy, paramName);
+            return copy;
+        }
+
         /// <summary>Rejects any non-finite entry.</summary>
         public static void AllFinite(ReadOnlySpan<double> values, string paramName)
         {

@@ -85,23 +85,7 @@ namespace OnlineRidge
         public IReadOnlyList<double>? Prior
         {
             get => prior;
-            init
-            {
-                if (value is null)
-                {
-                    prior = null;
-                    return;
-                }
-
-                var copy = new double[value.Count];
-                for (int i = 0; i < copy.Length; i++)
-                {
-                    copy[i] = value[i];
-                }
-
-                Guard.AllFinite(copy, nameof(Prior));
-                prior = copy;
-            }
+            init => prior = Guard.FiniteCopy(value, nameof(Prior));
         }
 
         /// <summary>Whether to fit an unpenalized intercept b₀ (default true). The state then carries the column of ones (MATH.md §4.3).</summary>
