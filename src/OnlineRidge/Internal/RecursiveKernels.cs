@@ -119,9 +119,10 @@ namespace OnlineRidge.Internal
         /// v = P·x only. Returns 0 when every new entry is finite and every new diagonal entry positive; otherwise a non-zero code
         /// (1 = non-finite, 2 = non-positive diagonal) with the offending row in <paramref name="failIndex"/> and value in <paramref name="failValue"/>.
         /// 1.5·d(d+1)/2 operations (a division per entry when β ≠ 1: division keeps the forgetting exact to rounding, a reciprocal would
-        /// bias every step in the same direction).
+        /// bias every step in the same direction). With <paramref name="stride"/> &gt; 0 the matrices are dense row-major with that row stride
+        /// instead of packed, and only the upper triangle (j ≥ i) of each row is written.
         /// </summary>
-        public static int CovarianceUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, out int failIndex, out double failValue)
+        public static int CovarianceUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, out int failIndex, out double failValue, int stride = 0)
         {
             // One pass per row: destination = (source + a·v)/β with a = −g·vᵢ, and the finiteness probe of the new row, fused so that each
             // entry is loaded and stored once (the same operations, in the same order, as copy, axpy, divide and check in turn).
@@ -144,7 +145,7 @@ namespace OnlineRidge.Internal
                     return code;
                 }
 
-                o += len;
+                o += stride == 0 ? len : stride + 1;
             }
 
             failIndex = -1;
@@ -225,9 +226,10 @@ namespace OnlineRidge.Internal
 
         /// <summary>
         /// Joseph-like covariance update (MATH.md §2.2 item 2, Bucy &amp; Joseph 1968): destination ← (source − k·vᵀ − v·kᵀ + (d/w)·k·kᵀ)/β,
-        /// upper triangle, with the computed gain k. Same return convention as <see cref="CovarianceUpdate"/>. About 2.5·d(d+1)/2 operations.
+        /// upper triangle, with the computed gain k. Same return convention and <paramref name="stride"/> meaning as <see cref="CovarianceUpdate"/>.
+        /// About 2.5·d(d+1)/2 operations.
         /// </summary>
-        public static int JosephUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, ReadOnlySpan<double> k, ReadOnlySpan<double> v, double dOverW, double beta, out int failIndex, out double failValue)
+        public static int JosephUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, ReadOnlySpan<double> k, ReadOnlySpan<double> v, double dOverW, double beta, out int failIndex, out double failValue, int stride = 0)
         {
             int o = 0;
             for (int i = 0; i < d; i++)
@@ -252,7 +254,7 @@ namespace OnlineRidge.Internal
                     return code;
                 }
 
-                o += len;
+                o += stride == 0 ? len : stride + 1;
             }
 
             failIndex = -1;
@@ -261,41 +263,23 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
-        /// EFRA covariance update (MATH.md §2.4c, Salgado, Goodwin &amp; Middleton 1988): destination ← source/β − g·v·vᵀ + b·I − c·source²,
-        /// upper triangle, with g = α·w/(1 + w·xᵀPx) and v = P·x computed by the caller. Row i of source² is source·(column i of source),
-        /// formed in <paramref name="column"/> and <paramref name="product"/> (length d each), so the cost is about d³/2 + 2·d² multiply-adds.
-        /// Same return convention as <see cref="CovarianceUpdate"/>.
+        /// EFRA covariance update (MATH.md §2.4c, Salgado, Goodwin &amp; Middleton 1988) on dense symmetric matrices of order d with row stride
+        /// <paramref name="stride"/> (both triangles stored in the source): destination ← source/β − g·v·vᵀ + b·I − c·source², upper triangle
+        /// only (the caller mirrors it), with g = α·w/(1 + w·xᵀPx) and v = P·x computed by the caller. Entry (i, j) of source² is the dot
+        /// product of rows i and j (symmetry), so the cost is about d³/2 + 2·d² multiply-adds. Same return convention as <see cref="CovarianceUpdate"/>.
         /// </summary>
-        public static int ResettingUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, double g, ReadOnlySpan<double> v, double beta, double addition, double contraction, Span<double> column, Span<double> product, out int failIndex, out double failValue)
+        public static int ResettingUpdate(ReadOnlySpan<double> source, Span<double> destination, int d, int stride, double g, ReadOnlySpan<double> v, double beta, double addition, double contraction, out int failIndex, out double failValue)
         {
-            int o = 0;
             for (int i = 0; i < d; i++)
             {
-                int len = d - i;
-                for (int k = 0; k < d; k++)
-                {
-                    column[k] = Get(source, d, k, i);
-                }
-
-                // Only entries j ≥ i of row i of source² are needed: (source²)_ij = Σ_k source_jk·column_k.
-                for (int j = i; j < d; j++)
-                {
-                    double acc = 0.0;
-                    for (int k = 0; k < j; k++)
-                    {
-                        acc += source[Index(k, j, d)] * column[k];
-                    }
-
-                    acc += Dot(source.Slice(RowOffset(j, d), d - j), column.Slice(j, d - j));
-                    product[j] = acc;
-                }
-
-                ReadOnlySpan<double> src = source.Slice(o, len);
-                Span<double> dst = destination.Slice(o, len);
+                ReadOnlySpan<double> rowI = source.Slice(i * stride, d);
+                ReadOnlySpan<double> src = source.Slice((i * stride) + i, d - i);
+                Span<double> dst = destination.Slice((i * stride) + i, d - i);
                 double gi = g * v[i];
-                for (int j = 0; j < len; j++)
+                for (int j = 0; j < dst.Length; j++)
                 {
-                    dst[j] = (src[j] / beta) - (gi * v[i + j]) - (contraction * product[i + j]);
+                    double square = Dot(source.Slice((i + j) * stride, d), rowI);
+                    dst[j] = (src[j] / beta) - (gi * v[i + j]) - (contraction * square);
                 }
 
                 dst[0] += addition;
@@ -306,8 +290,6 @@ namespace OnlineRidge.Internal
                     failValue = dst[0];
                     return code;
                 }
-
-                o += len;
             }
 
             failIndex = -1;

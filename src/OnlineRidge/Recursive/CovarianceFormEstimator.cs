@@ -52,7 +52,14 @@ namespace OnlineRidge
         private readonly CovarianceFormSettings settings;
         private readonly bool skipInvalid;
         private const string SnapshotKind = "CovarianceFormEstimator";
-        private const int SnapshotVersion = 1;
+        private const int SnapshotVersion = 2;
+
+        // Entries of P are refused from 2^1020 (about 1.12e307) on, a margin below the overflow threshold 2^1024 within which the bound
+        // arithmetic below cannot itself overflow unnoticed.
+        private static readonly double OverflowLimit = CovarianceKernels.ScaleB(1.0, 1020);
+
+        // The scale σ is folded back into the stored matrix (an exact power-of-two rescaling) once it exceeds 2^32.
+        private static readonly double RenormalizeAbove = CovarianceKernels.ScaleB(1.0, 32);
         private readonly WindupProtectionKind windupKind;
         private readonly double logBeta;
         private readonly double traceLimit;
@@ -61,14 +68,29 @@ namespace OnlineRidge
         private readonly double resettingContraction;
         private readonly double directionalFactor;
         private readonly double deadZone;
-        private readonly double[] column;
-        private readonly double[] product;
         private double logForgettingProduct;
         private double lastForgettingFactor = double.NaN;
         private readonly double[] v;
         private readonly double[] gain;
+        private double[] root;
+
+        // P = σ·P̃: P̃ dense row-major with row stride `stride` (both triangles, zero pad columns), σ = covarianceScale. The symmetric update
+        // with no windup protection or the trace bound works in place on P̃ and keeps forgetting in σ (P ← P/β is σ ← σ/β); the other
+        // policies keep σ = 1 and write into covarianceNext (double buffer), so that a failed update leaves P untouched in every policy.
+        private readonly int stride;
+        private readonly bool inPlace;
         private double[] covariance;
         private double[] covarianceNext;
+        private double covarianceScale = 1.0;
+
+        // An upper bound on max |P̃ᵢⱼ| (exact after a rescan), which proves without a pass over P̃ that a downdate cannot overflow.
+        private double covarianceBound;
+
+        // The downdate P̃ ← P̃ − t·tᵀ of the last accepted update is deferred and applied in the same pass as the next update's product
+        // P̃·x (one pass over P̃ per update instead of two). While pending, P̃ stands for fl(P̃ − t·tᵀ) entry by entry; readers compute those
+        // entries on the fly with the kernel's own arithmetic, so what they see is bit for bit the applied matrix.
+        private double[] pending;
+        private bool hasPending;
         private double[] theta;
         private double[] thetaNext;
         private double minimumCost;
@@ -154,15 +176,16 @@ namespace OnlineRidge
                 Guard.ThrowArgument(nameof(settings), FormattableString.Invariant($"settings.Prior has length {prior.Count}; expected {p} (one per regressor)."));
             }
 
-            int packed = RecursiveKernels.PackedLength(p);
-            covariance = new double[packed];
-            covarianceNext = new double[packed];
-            theta = new double[p];
-            thetaNext = new double[p];
-            v = new double[p];
+            stride = CovarianceKernels.Stride(p);
+            inPlace = updateForm == CovarianceUpdate.Symmetric && windupKind is WindupProtectionKind.None or WindupProtectionKind.TraceBound;
+            covariance = new double[p * stride];
+            covarianceNext = inPlace ? Array.Empty<double>() : new double[p * stride];
+            theta = new double[stride];
+            thetaNext = new double[stride];
+            v = new double[stride];
             gain = new double[p];
-            column = new double[p];
-            product = new double[p];
+            root = new double[stride];
+            pending = new double[stride];
             if (prior is not null)
             {
                 for (int j = 0; j < p; j++)
@@ -178,20 +201,21 @@ namespace OnlineRidge
             else if (initialState == InitialState.FromPriorWeight)
             {
                 double p0 = windupKind == WindupProtectionKind.ExponentialResetting ? CovarianceUpperBound : 1.0 / settings.PriorWeight;
-                if (double.IsInfinity(p0))
+                if (!(p0 < OverflowLimit))
                 {
-                    Guard.ThrowArgument(nameof(settings), "settings.PriorWeight is so small that its reciprocal overflows.");
+                    Guard.ThrowArgument(nameof(settings), "settings.PriorWeight is so small that its reciprocal reaches 2^1020 (about 1.12e307), the largest covariance entry this form admits.");
                 }
 
                 for (int i = 0; i < p; i++)
                 {
-                    covariance[RecursiveKernels.RowOffset(i, p)] = p0;
+                    covariance[(i * stride) + i] = p0;
                 }
             }
 
+            covarianceBound = CovarianceKernels.MaxAbs(covariance, stride, p);
             if (initialState != InitialState.Restored && windupKind == WindupProtectionKind.TraceBound)
             {
-                double trace = RecursiveKernels.Trace(covariance, p);
+                double trace = CovarianceTrace();
                 if (!(trace <= traceLimit))
                 {
                     string name = initialState == InitialState.Explicit ? "initialCovariance" : nameof(settings);
@@ -331,12 +355,17 @@ namespace OnlineRidge
             if (windupKind == WindupProtectionKind.TraceBound)
             {
                 // MATH.md §2.4b: βₙ = max(β, tr(Pₙ₋₁)/c_max), clamped at 1 against a trace a few ulps above c_max.
-                double raised = Math.Min(1.0, RecursiveKernels.Trace(covariance, p) / traceLimit);
+                double raised = Math.Min(1.0, CovarianceTrace() / traceLimit);
                 if (raised > factor)
                 {
                     factor = raised;
                     logFactor = Math.Log(raised);
                 }
+            }
+
+            if (inPlace)
+            {
+                return InPlaceStep(x, weight, e, factor, logFactor, out breakdown);
             }
 
             int code;
@@ -346,20 +375,18 @@ namespace OnlineRidge
             if (weight == 0.0)
             {
                 // Pure forgetting step: θ unchanged, P ← P/β, J* ← β J*.
-                code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, 0.0, v, factor, out failIndex, out failValue);
+                code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, 0.0, v, factor, out failIndex, out failValue, stride);
                 newCost = factor * minimumCost;
-                theta.AsSpan().CopyTo(thetaNext);
+                theta.AsSpan(0, p).CopyTo(thetaNext);
             }
             else
             {
-                RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
+                CovarianceKernels.Multiply(covariance, stride, p, x, v);
                 double s = RecursiveKernels.Dot(x, v);
                 double d = factor + (weight * s);
                 if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
                 {
-                    breakdown = double.IsInfinity(s) || double.IsInfinity(d) || double.IsNaN(s)
-                        ? new BreakdownInfo(BreakdownKind.NonFinite, -1, s, double.NaN)
-                        : new BreakdownInfo(BreakdownKind.LostDefiniteness, -1, s < 0.0 ? s : d, double.NaN);
+                    breakdown = ProjectionBreakdown(s, d);
                     return false;
                 }
 
@@ -371,9 +398,7 @@ namespace OnlineRidge
                     thetaNext[j] = theta[j] + (kj * e);
                 }
 
-                code = updateForm == CovarianceUpdate.Symmetric
-                    ? RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, g, v, factor, out failIndex, out failValue)
-                    : RecursiveKernels.JosephUpdate(covariance, covarianceNext, p, gain, v, d / weight, factor, out failIndex, out failValue);
+                code = RecursiveKernels.JosephUpdate(covariance, covarianceNext, p, gain, v, d / weight, factor, out failIndex, out failValue, stride);
                 newCost = factor * (minimumCost + (weight * e * e / d));
                 if (code == 0 && !(AllFinite(thetaNext) && Guard.IsFinite(newCost)))
                 {
@@ -390,13 +415,162 @@ namespace OnlineRidge
             }
 
             minimumCost = newCost;
-            Commit(e, factor, logFactor);
+            CommitBuffered(e, factor, logFactor);
             breakdown = BreakdownInfo.None;
             return true;
         }
 
-        private void Commit(double e, double factor, double logFactor)
+        private static BreakdownInfo ProjectionBreakdown(double s, double d) =>
+            double.IsInfinity(s) || double.IsInfinity(d) || double.IsNaN(s)
+                ? new BreakdownInfo(BreakdownKind.NonFinite, -1, s, double.NaN)
+                : new BreakdownInfo(BreakdownKind.LostDefiniteness, -1, s < 0.0 ? s : d, double.NaN);
+
+        /// <summary>
+        /// The symmetric update (MATH.md §2.2 item 1) in the scaled representation P = σ·P̃: with u = P̃·x, s = σ·xᵀu, d = β + w·s and g = w/d,
+        /// θ ← θ + (g·σ)·u·e, P̃ ← P̃ − t·tᵀ with t = √(g·σ)·u, and σ ← σ/β — the same matrix (P − g·v·vᵀ)/β, v = P·x, without touching every
+        /// entry a second time for the division by β. Every check (s ≥ 0, d &gt; 0, each new diagonal entry positive, no entry of P beyond
+        /// 2^1020, finite θ and J*) is made before anything is written, so a refused update changes nothing.
+        /// </summary>
+        private bool InPlaceStep(ReadOnlySpan<double> x, double weight, double e, double factor, double logFactor, out BreakdownInfo breakdown)
         {
+            double sigma = covarianceScale;
+            double sigmaNext = sigma / factor;
+            if (weight == 0.0)
+            {
+                // Pure forgetting: P ← P/β is σ ← σ/β; θ unchanged; J* ← β·J*.
+                if (!(covarianceBound * sigmaNext < OverflowLimit) && !RescanBound(0.0, sigmaNext))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, covarianceBound * sigmaNext, double.NaN);
+                    return false;
+                }
+
+                covarianceScale = sigmaNext;
+                minimumCost = factor * minimumCost;
+                CommitInPlace(e, factor, logFactor);
+                breakdown = BreakdownInfo.None;
+                return true;
+            }
+
+            if (hasPending)
+            {
+                // Applying the deferred downdate changes the representation only, so a refusal below still leaves the estimator as it was.
+                CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, x, v);
+                hasPending = false;
+            }
+            else
+            {
+                CovarianceKernels.Multiply(covariance, stride, p, x, v);
+            }
+
+            double s = sigma * RecursiveKernels.Dot(x, v);
+            double d = factor + (weight * s);
+            if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
+            {
+                breakdown = ProjectionBreakdown(s, d);
+                return false;
+            }
+
+            double g = weight / d;
+            double gs = g * sigma;
+            // t = √(g·σ)·u and θ' = θ + (g·σ·e)·u; the pad entries of u are 0 (pad columns of P̃ are 0), so the pads of t and θ stay 0.
+            double largest = CovarianceKernels.GainStep(v, Math.Sqrt(gs), gs * e, theta, thetaNext, root, stride);
+            double newCost = factor * (minimumCost + (weight * e * e / d));
+            if (!Guard.IsFinite(largest) || !Guard.IsFinite(newCost))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
+                return false;
+            }
+
+            // The new diagonal, computed exactly as the downdate will compute it.
+            double diagonal = CovarianceKernels.SmallestDowndatedDiagonal(covariance, stride, p, root, out int smallestAt);
+            if (!(diagonal > 0.0))
+            {
+                breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);
+                return false;
+            }
+
+            // |P̃ᵢⱼ − tᵢtⱼ| ≤ max|P̃| + max tᵢ²: when that bound (times σ) is below the limit, no entry can overflow.
+            double bound = covarianceBound + largest;
+            if (!(bound * sigmaNext < OverflowLimit))
+            {
+                if (!RescanBound(largest, sigmaNext))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, (covarianceBound + largest) * sigmaNext, double.NaN);
+                    return false;
+                }
+
+                bound = covarianceBound + largest;
+            }
+
+            (pending, root) = (root, pending);
+            hasPending = true;
+            covarianceBound = bound;
+            covarianceScale = sigmaNext;
+            minimumCost = newCost;
+            (theta, thetaNext) = (thetaNext, theta);
+            CommitInPlace(e, factor, logFactor);
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+
+        /// <summary>Replaces the running bound by the exact max |P̃ᵢⱼ| (O(p²)); true when (max + <paramref name="addition"/>)·σ is within the limit.</summary>
+        private bool RescanBound(double addition, double scale)
+        {
+            Flush();
+            covarianceBound = CovarianceKernels.MaxAbs(covariance, stride, p);
+            return (covarianceBound + addition) * scale < OverflowLimit;
+        }
+
+        /// <summary>Applies a deferred downdate (a change of representation only). O(p²) when one is pending.</summary>
+        private void Flush()
+        {
+            if (hasPending)
+            {
+                CovarianceKernels.RankOneDowndate(covariance, stride, p, pending);
+                hasPending = false;
+            }
+        }
+
+        /// <summary>Entry (i, j) of P̃ with a deferred downdate applied, bit for bit as the kernel will apply it. O(1).</summary>
+        private double ScaledEntry(int i, int j)
+        {
+            double value = covariance[(i * stride) + j];
+            return hasPending ? CovarianceKernels.MultiplyAdd(-pending[i], pending[j], value) : value;
+        }
+
+        /// <summary>tr(P) = Σᵢ fl(σ·P̃ᵢᵢ) in index order (as a reader of <see cref="CopyCovarianceTo"/> would sum it). O(p).</summary>
+        private double CovarianceTrace()
+        {
+            double t = 0.0;
+            for (int i = 0; i < p; i++)
+            {
+                t += covarianceScale * ScaledEntry(i, i);
+            }
+
+            return t;
+        }
+
+        /// <summary>Counts the accepted in-place update and folds σ into P̃ (an exact power-of-two rescaling) once it exceeds 2^32.</summary>
+        private void CommitInPlace(double e, double factor, double logFactor)
+        {
+            if (covarianceScale > RenormalizeAbove)
+            {
+                Flush();
+                int k = CovarianceKernels.Exponent(covarianceScale);
+                CovarianceKernels.ScaleByPowerOfTwo(covariance, stride, p, k);
+                covarianceScale = CovarianceKernels.ScaleB(covarianceScale, -k);
+                covarianceBound = CovarianceKernels.MaxAbs(covariance, stride, p);
+            }
+
+            lastError = e;
+            lastForgettingFactor = factor;
+            logForgettingProduct += logFactor;
+            SampleCount++;
+        }
+
+        private void CommitBuffered(double e, double factor, double logFactor)
+        {
+            CovarianceKernels.Mirror(covarianceNext, stride, p);
             (covariance, covarianceNext) = (covarianceNext, covariance);
             (theta, thetaNext) = (thetaNext, theta);
             lastError = e;
@@ -408,7 +582,7 @@ namespace OnlineRidge
         /// <summary>v = P·x and s = xᵀv with the guards of MATH.md §2.2 item 3 (s ≥ 0, finite); false with the breakdown otherwise.</summary>
         private bool Project(ReadOnlySpan<double> x, double weight, out double s, out BreakdownInfo breakdown)
         {
-            RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
+            CovarianceKernels.Multiply(covariance, stride, p, x, v);
             s = RecursiveKernels.Dot(x, v);
             double ws = weight * s;
             if (!(s >= 0.0) || double.IsInfinity(ws))
@@ -449,14 +623,14 @@ namespace OnlineRidge
                 return false;
             }
 
-            int code = RecursiveKernels.ResettingUpdate(covariance, covarianceNext, p, g, v, beta, resettingAddition, resettingContraction, column, product, out int failIndex, out double failValue);
+            int code = RecursiveKernels.ResettingUpdate(covariance, covarianceNext, p, stride, g, v, beta, resettingAddition, resettingContraction, out int failIndex, out double failValue);
             if (code != 0)
             {
                 breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
                 return false;
             }
 
-            Commit(e, beta, logBeta);
+            CommitBuffered(e, beta, logBeta);
             return true;
         }
 
@@ -480,14 +654,14 @@ namespace OnlineRidge
             double coefficient = s > 0.0 && weight * s >= deadZone
                 ? ((mu * weight) - ((1.0 - mu) / s)) / (mu * onePlus)
                 : weight / onePlus;
-            int code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, coefficient, v, 1.0, out int failIndex, out double failValue);
+            int code = RecursiveKernels.CovarianceUpdate(covariance, covarianceNext, p, coefficient, v, 1.0, out int failIndex, out double failValue, stride);
             if (code != 0)
             {
                 breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
                 return false;
             }
 
-            Commit(e, 1.0, 0.0);
+            CommitBuffered(e, 1.0, 0.0);
             return true;
         }
 
@@ -512,7 +686,7 @@ namespace OnlineRidge
                 Guard.ThrowLength(nameof(destination), destination.Length, p);
             }
 
-            theta.AsSpan().CopyTo(destination);
+            theta.AsSpan(0, p).CopyTo(destination);
         }
 
         /// <summary>
@@ -528,7 +702,15 @@ namespace OnlineRidge
                 Guard.ThrowLength(nameof(destination), destination.Length, p * p);
             }
 
-            RecursiveKernels.Unpack(covariance, p, destination);
+            double scale = covarianceScale;
+            for (int i = 0; i < p; i++)
+            {
+                Span<double> target = destination.Slice(i * p, p);
+                for (int j = 0; j < p; j++)
+                {
+                    target[j] = scale * ScaledEntry(i, j);
+                }
+            }
         }
 
         /// <summary>
@@ -560,8 +742,9 @@ namespace OnlineRidge
                 .Add("windup", settings.Windup.Kind.ToString())
                 .Add("sampleCount", SampleCount)
                 .Add("skippedSampleCount", SkippedSampleCount)
-                .Add("theta", theta)
-                .Add("covariance", covariance)
+                .Add("theta", theta.AsSpan(0, p))
+                .Add("covariance", PackedScaledCovariance())
+                .Add("covarianceScale", covarianceScale)
                 .Add("minimumCost", minimumCost)
                 .Add("lastPriorError", lastError)
                 .Add("logForgettingProduct", logForgettingProduct)
@@ -628,6 +811,13 @@ namespace OnlineRidge
             long skippedCount = SnapshotSupport.Count(r, "skippedSampleCount");
             double[] theta = SnapshotSupport.FiniteArray(r, "theta", p);
             double[] covariance = SnapshotSupport.FiniteArray(r, "covariance", RecursiveKernels.PackedLength(p));
+            double scale = r.KindVersion >= 2 ? r.GetDouble("covarianceScale") : 1.0;
+            bool scaled = update == CovarianceUpdate.Symmetric && settings.Windup.Kind is WindupProtectionKind.None or WindupProtectionKind.TraceBound;
+            if (!(scale >= 1.0 && scale <= RenormalizeAbove) || (!scaled && scale != 1.0))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'covarianceScale' = {0:R} must lie in [1, 2^32] (exactly 1 for this update form and windup policy)", scale);
+            }
+
             for (int i = 0; i < p; i++)
             {
                 double v = covariance[RecursiveKernels.RowOffset(i, p)];
@@ -660,7 +850,23 @@ namespace OnlineRidge
             est.logForgettingProduct = logProduct;
             est.lastForgettingFactor = lastFactor;
             theta.AsSpan().CopyTo(est.theta);
-            covariance.AsSpan().CopyTo(est.covariance);
+            for (int i = 0; i < p; i++)
+            {
+                for (int j = i; j < p; j++)
+                {
+                    double value = covariance[RecursiveKernels.Index(i, j, p)];
+                    est.covariance[(i * est.stride) + j] = value;
+                    est.covariance[(j * est.stride) + i] = value;
+                }
+            }
+
+            est.covarianceScale = scale;
+            est.covarianceBound = CovarianceKernels.MaxAbs(est.covariance, est.stride, p);
+            if (!(est.covarianceBound * scale < OverflowLimit))
+            {
+                throw SnapshotSupport.Invalid("snapshot entry 'covariance' has an entry above 2^1020 (largest {0:R} times scale {1:R})", est.covarianceBound, scale);
+            }
+
             est.minimumCost = cost;
             est.lastError = error;
             est.SampleCount = count;
@@ -691,7 +897,8 @@ namespace OnlineRidge
                     }
 
                     work[(i * p) + j] = upper;
-                    covariance[RecursiveKernels.Index(i, j, p)] = upper;
+                    covariance[(i * stride) + j] = upper;
+                    covariance[(j * stride) + i] = upper;
                 }
             }
 
@@ -699,6 +906,22 @@ namespace OnlineRidge
             {
                 Guard.ThrowArgument(Name, FormattableString.Invariant($"initialCovariance is not positive definite: Cholesky pivot {failIndex} = {failValue:R}."));
             }
+        }
+
+        /// <summary>The packed upper triangle of P̃ (P = σ·P̃), as the snapshot stores it. O(p²), allocating.</summary>
+        private double[] PackedScaledCovariance()
+        {
+            var packed = new double[RecursiveKernels.PackedLength(p)];
+            int o = 0;
+            for (int i = 0; i < p; i++)
+            {
+                for (int j = i; j < p; j++)
+                {
+                    packed[o++] = ScaledEntry(i, j);
+                }
+            }
+
+            return packed;
         }
 
         private static bool AllFinite(ReadOnlySpan<double> values)

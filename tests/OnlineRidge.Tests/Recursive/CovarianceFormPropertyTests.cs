@@ -189,9 +189,10 @@ namespace OnlineRidge.Tests.Recursive
                 Assert.Equal(thetaBefore, thetaAfter);
                 for (int i = 0; i < p * p; i++)
                 {
-                    // One rounding of the division by β.
+                    // The estimator keeps P = σ·P̃ and forgets by σ ← σ/β: the reported entries fl(σ·P̃ᵢⱼ) before and after differ from an exact
+                    // division by β by the roundings of σ/β and of the two products, at most 3 units of ε/2 each, plus that of this division.
                     double expected = covBefore[i] / c.Beta;
-                    Assert.True(Math.Abs(covAfter[i] - expected) <= ToleranceRule.Eps * Math.Abs(expected), $"P[{i}] = {covAfter[i]:R}, expected {expected:R}");
+                    Assert.True(Math.Abs(covAfter[i] - expected) <= 2.0 * ToleranceRule.Eps * Math.Abs(expected), $"P[{i}] = {covAfter[i]:R}, expected {expected:R}");
                 }
 
                 Assert.True(Math.Abs(est.MinimumCost - (c.Beta * costBefore)) <= ToleranceRule.Eps * c.Beta * costBefore);

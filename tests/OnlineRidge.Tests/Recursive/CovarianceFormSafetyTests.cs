@@ -129,7 +129,63 @@ namespace OnlineRidge.Tests.Recursive
                 ("forgettingFactor", 1.5),
                 ("parameterCount", 4L),
                 ("prior", new[] { 1.0, double.NaN, 3.0 }),
+                ("covarianceScale", 0.5),                    // below 1: σ only grows
+                ("covarianceScale", 2.0),                    // the Joseph-like form keeps σ = 1
+                ("covarianceScale", double.PositiveInfinity),
             });
+        }
+
+        /// <summary>
+        /// Claim (ReadSnapshot docs): a layout-1 snapshot (P stored as is, no scale entry) of a symmetric-form estimator restores to the same
+        /// θ, P and J* bit for bit, and fed the same further data agrees with the original to rounding (10⁻¹² relative): the layout-2 scale
+        /// σ (P = σ·P̃) is a representation, not part of the model. The layout-1 bytes are built from the original's reported P.
+        /// </summary>
+        [Fact]
+        public void LayoutOneSnapshotStillRestores()
+        {
+            const int P = 5;
+            var rng = new Random(20261202);
+            var est = new CovarianceFormEstimator(P, new CovarianceFormSettings { ForgettingFactor = 0.97 });
+            var x = new double[P];
+            void Feed(CovarianceFormEstimator e, Random r, int count)
+            {
+                for (int k = 0; k < count; k++)
+                {
+                    for (int j = 0; j < P; j++)
+                    {
+                        x[j] = r.NextDouble() - 0.5;
+                    }
+
+                    e.Update(x, x[0] - (2.0 * x[3]) + (0.01 * (r.NextDouble() - 0.5)));
+                }
+            }
+
+            Feed(est, rng, 800);
+            var cov = new double[P * P];
+            est.CopyCovarianceTo(cov);
+            var packed = new List<double>();
+            for (int i = 0; i < P; i++)
+            {
+                for (int j = i; j < P; j++)
+                {
+                    packed.Add(cov[(i * P) + j]);
+                }
+            }
+
+            byte[] v2 = Support.SnapshotBytes.Of((st, enc) => est.WriteSnapshot(st, enc));
+            Assert.NotEqual(1.0, OnlineRidge.Persistence.SnapshotCodec.Read(new System.IO.MemoryStream(v2)).GetDouble("covarianceScale"));
+            byte[] v1 = Support.SnapshotBytes.Edit(Support.SnapshotBytes.Edit(v2, "covariance", packed.ToArray()), "covarianceScale", null, version: 1);
+            CovarianceFormEstimator old = CovarianceFormEstimator.ReadSnapshot(new System.IO.MemoryStream(v1));
+            Support.SnapshotBytes.AssertBitEqual(Form.Results(est), Form.Results(old), "restored from layout 1");
+
+            Feed(est, new Random(7), 300);
+            Feed(old, new Random(7), 300);
+            double[] a = Form.Results(est);
+            double[] b = Form.Results(old);
+            for (int i = 0; i < a.Length; i++)
+            {
+                Assert.True(Math.Abs(a[i] - b[i]) <= 1e-12 * Math.Max(1.0, Math.Abs(a[i])), $"result {i}: {a[i]:R} vs {b[i]:R}");
+            }
         }
 
         /// <summary>Claim (SnapshotEncoding.Json docs): the JSON names the kind, every setting and state entry, and the values read as text.</summary>

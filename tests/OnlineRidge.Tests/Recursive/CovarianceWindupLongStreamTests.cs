@@ -181,8 +181,8 @@ namespace OnlineRidge.Tests.Recursive
         /// <summary>
         /// Claim (MATH.md §2.3): without protection the same stream winds up. Over the first zero-regressor block tr(P) grows exactly like
         /// β⁻ᵐ (P ← P/β each step: ratio within 10⁻⁹ relative at m = 1 000, 10 000 and 20 000), and if the idle stretch goes on, the largest
-        /// diagonal entry overflows at the predicted step m* = ⌈ln(double.MaxValue/max Pᵢᵢ)/(−ln β)⌉ (± 2): the guard reports
-        /// <see cref="BreakdownKind.NonFinite"/> and leaves the state unchanged.
+        /// diagonal entry reaches the form's documented ceiling 2¹⁰²⁰ at the predicted step m* = ⌈ln(2¹⁰²⁰/max Pᵢᵢ)/(−ln β)⌉ (± 2): the guard
+        /// reports <see cref="BreakdownKind.NonFinite"/> and leaves the state unchanged.
         /// </summary>
         [Fact]
         public void UnprotectedFormWindsUpLikeBetaToTheMinusMUntilTheGuardReportsOverflow()
@@ -214,7 +214,7 @@ namespace OnlineRidge.Tests.Recursive
                 Assert.True(Math.Abs(ratio - expected) <= 1e-9 * expected, $"m={target}: tr(P_m)/tr(P_0) = {ratio:R}, β^(−m) = {expected:R}");
             }
 
-            int predicted = (int)Math.Ceiling((Math.Log(double.MaxValue) - Math.Log(maxDiagonal0)) / -Math.Log(Beta));
+            int predicted = (int)Math.Ceiling(((1020 * Math.Log(2.0)) - Math.Log(maxDiagonal0)) / -Math.Log(Beta));
             Assert.True(predicted > 20_000 && predicted < 60_000, $"predicted overflow step {predicted}");
             int failedAt = -1;
             for (; m < 60_000; m++)

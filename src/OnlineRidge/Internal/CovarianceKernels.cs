@@ -1,0 +1,542 @@
+using System;
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+#if NET
+using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
+#endif
+
+namespace OnlineRidge.Internal
+{
+    /// <summary>
+    /// Kernels of the covariance form on a dense symmetric matrix of order p held row-major with a padded row stride
+    /// (<see cref="Stride"/>: p rounded up to the vector width of 4 doubles when the vector path runs, p otherwise). Both triangles are
+    /// stored; the pad columns hold zeros. Every row is whole vectors, so neither kernel has a scalar tail, and the rank-one downdate
+    /// A ← A − t·tᵀ keeps A bitwise symmetric by construction: entry (i, j) becomes fl(A_ij − t_i·t_j) (one rounding with FMA, two without)
+    /// and the product t_i·t_j is the same number as t_j·t_i. No allocation; lengths are the caller's responsibility (checked in debug builds
+    /// through the span accessors of the scalar path).
+    /// </summary>
+    internal static class CovarianceKernels
+    {
+        /// <summary>Whether the 256-bit FMA path runs (always false on the portable build).</summary>
+        public static bool IsVectorized => GramKernels.IsVectorized;
+
+        /// <summary>Row stride for order p: p rounded up to a multiple of 4 on the vector path, p otherwise.</summary>
+        public static int Stride(int p) => IsVectorized ? (p + 3) & ~3 : p;
+
+        /// <summary>
+        /// a·b + c exactly as the kernels compute it: one rounding (fused) on the vector path, two otherwise. The estimator predicts the new
+        /// diagonal with this before a downdate, so the prediction and the kernel agree to the bit.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public static double MultiplyAdd(double a, double b, double c) =>
+#if NET
+            IsVectorized ? Math.FusedMultiplyAdd(a, b, c) : (a * b) + c;
+#else
+            (a * b) + c;
+#endif
+
+        /// <summary>
+        /// u ← A·x for the symmetric A (order p, stride s): u_i = Σⱼ xⱼ·A_ji accumulated over the rows j, entries 0 … s−1 of u written (the pad
+        /// entries become 0). p·s multiply-adds, no allocation. On the vector path even and odd rows are summed apart and added at the end.
+        /// </summary>
+        public static void Multiply(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> x, Span<double> u)
+        {
+#if NET
+            if (IsVectorized)
+            {
+                MultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(x.Slice(0, p)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
+                return;
+            }
+#endif
+            u.Slice(0, s).Clear();
+            for (int j = 0; j < p; j++)
+            {
+                double xj = x[j];
+                ReadOnlySpan<double> row = a.Slice(j * s, s);
+                for (int i = 0; i < s; i++)
+                {
+                    u[i] = (xj * row[i]) + u[i];
+                }
+            }
+        }
+
+        /// <summary>
+        /// A ← A − t·tᵀ and then u ← A·x (the updated A) in one pass over A: each row is downdated, stored and accumulated into u while it
+        /// is in registers, so A is read and written once instead of twice. The result is bit for bit that of <see cref="RankOneDowndate"/>
+        /// followed by <see cref="Multiply"/>. 2·p·s multiply-adds, no allocation.
+        /// </summary>
+        public static void DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
+        {
+#if NET
+            if (IsVectorized)
+            {
+                DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), ref MemoryMarshal.GetReference(x.Slice(0, p)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
+                return;
+            }
+#endif
+            RankOneDowndate(a, s, p, t);
+            Multiply(a, s, p, x, u);
+        }
+
+        /// <summary>
+        /// A ← A − t·tᵀ over rows 0 … p−1 and all s columns (t has length s, zero beyond p so the pad stays zero). p·s multiply-adds, in place,
+        /// no allocation. The caller checks beforehand that the result is acceptable (positive diagonal, no overflow): this kernel cannot fail.
+        /// </summary>
+        public static void RankOneDowndate(Span<double> a, int s, int p, ReadOnlySpan<double> t)
+        {
+#if NET
+            if (IsVectorized)
+            {
+                DowndateVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)));
+                return;
+            }
+#endif
+            for (int i = 0; i < p; i++)
+            {
+                double ti = -t[i];
+                Span<double> row = a.Slice(i * s, s);
+                for (int j = 0; j < s; j++)
+                {
+                    row[j] = (ti * t[j]) + row[j];
+                }
+            }
+        }
+
+        /// <summary>
+        /// The vector part of a covariance-form step, over all s entries (pad included; v and θ have zero pads, which stay zero): t ← r·v,
+        /// θ' ← θ + c·v. Returns max tⱼ², or NaN when an entry of t or θ' is not finite. 3s operations, no allocation.
+        /// </summary>
+        public static double GainStep(ReadOnlySpan<double> v, double r, double c, ReadOnlySpan<double> theta, Span<double> thetaNext, Span<double> t, int s)
+        {
+            int j = 0;
+            double largest = 0.0;
+            double probe = 0.0;
+#if NET
+            if (IsVectorized)
+            {
+                ref double vr = ref MemoryMarshal.GetReference(v.Slice(0, s));
+                ref double th = ref MemoryMarshal.GetReference(theta.Slice(0, s));
+                ref double tn = ref MemoryMarshal.GetReference(thetaNext.Slice(0, s));
+                ref double tr = ref MemoryMarshal.GetReference(t.Slice(0, s));
+                Vector256<double> vrr = Vector256.Create(r), vc = Vector256.Create(c);
+                Vector256<double> big = Vector256<double>.Zero, check = Vector256<double>.Zero;
+                for (; j < s; j += 4)
+                {
+                    Vector256<double> vj = Vector256.LoadUnsafe(ref vr, (nuint)j);
+                    Vector256<double> tj = vrr * vj;
+                    Vector256<double> theta2 = Fma.MultiplyAdd(vc, vj, Vector256.LoadUnsafe(ref th, (nuint)j));
+                    tj.StoreUnsafe(ref tr, (nuint)j);
+                    theta2.StoreUnsafe(ref tn, (nuint)j);
+                    big = Vector256.Max(big, tj * tj);
+
+                    // x − x is 0 for finite x and NaN for ±∞ and NaN.
+                    check += (tj - tj) + (theta2 - theta2);
+                }
+
+                largest = Math.Max(Math.Max(big.GetElement(0), big.GetElement(1)), Math.Max(big.GetElement(2), big.GetElement(3)));
+                probe = Vector256.Sum(check);
+                return probe == 0.0 ? largest : double.NaN;
+            }
+#endif
+            for (; j < s; j++)
+            {
+                double vj = v[j];
+                double tj = r * vj;
+                double theta2 = (c * vj) + theta[j];
+                t[j] = tj;
+                thetaNext[j] = theta2;
+                largest = Math.Max(largest, tj * tj);
+                probe += (tj - tj) + (theta2 - theta2);
+            }
+
+            return probe == 0.0 ? largest : double.NaN;
+        }
+
+        /// <summary>
+        /// Smallest fl(A_ii − tᵢ²) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic) and its index: the new
+        /// diagonal's least entry before the downdate is applied. 2p operations.
+        /// </summary>
+        public static double SmallestDowndatedDiagonal(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> t, out int index)
+        {
+            double smallest = double.PositiveInfinity;
+            index = -1;
+            for (int i = 0; i < p; i++)
+            {
+                double ti = t[i];
+                double d = MultiplyAdd(-ti, ti, a[(i * s) + i]);
+                if (!(d >= smallest))
+                {
+                    smallest = d;
+                    index = i;
+                }
+            }
+
+            return smallest;
+        }
+
+        /// <summary>Largest |A_ij| over the p×p block (pad excluded). p² operations.</summary>
+        public static double MaxAbs(ReadOnlySpan<double> a, int s, int p)
+        {
+            double m = 0.0;
+            for (int i = 0; i < p; i++)
+            {
+                ReadOnlySpan<double> row = a.Slice(i * s, p);
+                for (int j = 0; j < p; j++)
+                {
+                    m = Math.Max(m, Math.Abs(row[j]));
+                }
+            }
+
+            return m;
+        }
+
+        /// <summary>A ← 2^k·A over the p×p block; exact (a power-of-two scaling) while no entry leaves the normal range. p² multiplications.</summary>
+        public static void ScaleByPowerOfTwo(Span<double> a, int s, int p, int k)
+        {
+            double f = ScaleB(1.0, k);
+            for (int i = 0; i < p; i++)
+            {
+                Span<double> row = a.Slice(i * s, p);
+                for (int j = 0; j < p; j++)
+                {
+                    row[j] *= f;
+                }
+            }
+        }
+
+        /// <summary>Copies the upper triangle onto the lower one (after an update that wrote only rows j ≥ i of each row i). p(p−1)/2 copies.</summary>
+        public static void Mirror(Span<double> a, int s, int p)
+        {
+            for (int i = 0; i < p; i++)
+            {
+                for (int j = i + 1; j < p; j++)
+                {
+                    a[(j * s) + i] = a[(i * s) + j];
+                }
+            }
+        }
+
+        /// <summary>x·2^k, exact for normal results (Math.ScaleB is not in netstandard2.0). |k| ≤ 1000.</summary>
+        public static double ScaleB(double x, int k)
+        {
+#if NET
+            return Math.ScaleB(x, k);
+#else
+            // 2^k as a double built from its exponent bits, applied in exact steps.
+            while (k > 1000)
+            {
+                x *= BitConverter.Int64BitsToDouble((long)(1023 + 1000) << 52);
+                k -= 1000;
+            }
+
+            while (k < -1000)
+            {
+                x *= BitConverter.Int64BitsToDouble((long)(1023 - 1000) << 52);
+                k += 1000;
+            }
+
+            return x * BitConverter.Int64BitsToDouble((long)(1023 + k) << 52);
+#endif
+        }
+
+        /// <summary>Binary exponent e of a positive normal x (2^e ≤ x &lt; 2^(e+1)).</summary>
+        public static int Exponent(double x) => (int)((BitConverter.DoubleToInt64Bits(x) >> 52) & 0x7FF) - 1023;
+
+#if NET
+        private static void MultiplyVector(ref double a, int s, int p, ref double x, ref double u)
+        {
+            int c = 0;
+
+            // Column blocks of 16, 8 and 4: each block's accumulators stay in registers over all p rows (two sets, for even and odd rows,
+            // to halve the FMA latency chain), so A is streamed once and u written once.
+            for (; c + 16 <= s; c += 16)
+            {
+                Vector256<double> e0 = Vector256<double>.Zero, e1 = e0, e2 = e0, e3 = e0, o0 = e0, o1 = e0, o2 = e0, o3 = e0;
+                int j = 0;
+                for (; j + 2 <= p; j += 2)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    Vector256<double> x1 = Vector256.Create(Unsafe.Add(ref x, j + 1));
+                    e0 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0), e0);
+                    e1 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 4), e1);
+                    e2 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 8), e2);
+                    e3 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 12), e3);
+                    o0 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1), o0);
+                    o1 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1, 4), o1);
+                    o2 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1, 8), o2);
+                    o3 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1, 12), o3);
+                }
+
+                if (j < p)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    e0 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0), e0);
+                    e1 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 4), e1);
+                    e2 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 8), e2);
+                    e3 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 12), e3);
+                }
+
+                ref double uc = ref Unsafe.Add(ref u, c);
+                (e0 + o0).StoreUnsafe(ref uc);
+                (e1 + o1).StoreUnsafe(ref uc, 4);
+                (e2 + o2).StoreUnsafe(ref uc, 8);
+                (e3 + o3).StoreUnsafe(ref uc, 12);
+            }
+
+            if (c + 8 <= s)
+            {
+                Vector256<double> e0 = Vector256<double>.Zero, e1 = e0, o0 = e0, o1 = e0;
+                int j = 0;
+                for (; j + 2 <= p; j += 2)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    Vector256<double> x1 = Vector256.Create(Unsafe.Add(ref x, j + 1));
+                    e0 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0), e0);
+                    e1 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 4), e1);
+                    o0 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1), o0);
+                    o1 = Fma.MultiplyAdd(x1, Vector256.LoadUnsafe(ref r1, 4), o1);
+                }
+
+                if (j < p)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    e0 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0), e0);
+                    e1 = Fma.MultiplyAdd(x0, Vector256.LoadUnsafe(ref r0, 4), e1);
+                }
+
+                ref double uc = ref Unsafe.Add(ref u, c);
+                (e0 + o0).StoreUnsafe(ref uc);
+                (e1 + o1).StoreUnsafe(ref uc, 4);
+                c += 8;
+            }
+
+            if (c + 4 <= s)
+            {
+                Vector256<double> e0 = Vector256<double>.Zero, o0 = e0, e1 = e0, o1 = e0;
+                int j = 0;
+                for (; j + 4 <= p; j += 4)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), Vector256.LoadUnsafe(ref r0), e0);
+                    o0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 1)), Vector256.LoadUnsafe(ref Unsafe.Add(ref r0, s)), o0);
+                    e1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 2)), Vector256.LoadUnsafe(ref Unsafe.Add(ref r0, 2 * s)), e1);
+                    o1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 3)), Vector256.LoadUnsafe(ref Unsafe.Add(ref r0, 3 * s)), o1);
+                }
+
+                for (; j < p; j++)
+                {
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), Vector256.LoadUnsafe(ref Unsafe.Add(ref a, (j * s) + c)), e0);
+                }
+
+                ((e0 + o0) + (e1 + o1)).StoreUnsafe(ref Unsafe.Add(ref u, c));
+            }
+        }
+
+        private static void DowndateMultiplyVector(ref double a, int s, int p, ref double t, ref double x, ref double u)
+        {
+            int c = 0;
+
+            // As MultiplyVector (same blocks, the same even/odd accumulation order, so the same bits), with each row block downdated first.
+            for (; c + 16 <= s; c += 16)
+            {
+                ref double tc = ref Unsafe.Add(ref t, c);
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref tc), t1 = Vector256.LoadUnsafe(ref tc, 4), t2 = Vector256.LoadUnsafe(ref tc, 8), t3 = Vector256.LoadUnsafe(ref tc, 12);
+                Vector256<double> e0 = Vector256<double>.Zero, e1 = e0, e2 = e0, e3 = e0, o0 = e0, o1 = e0, o2 = e0, o3 = e0;
+                int j = 0;
+                for (; j + 2 <= p; j += 2)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
+                    Vector256<double> m1 = Vector256.Create(-Unsafe.Add(ref t, j + 1));
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    Vector256<double> x1 = Vector256.Create(Unsafe.Add(ref x, j + 1));
+                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> a2 = Fma.MultiplyAdd(m0, t2, Vector256.LoadUnsafe(ref r0, 8));
+                    Vector256<double> a3 = Fma.MultiplyAdd(m0, t3, Vector256.LoadUnsafe(ref r0, 12));
+                    Vector256<double> b0 = Fma.MultiplyAdd(m1, t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> b1 = Fma.MultiplyAdd(m1, t1, Vector256.LoadUnsafe(ref r1, 4));
+                    Vector256<double> b2 = Fma.MultiplyAdd(m1, t2, Vector256.LoadUnsafe(ref r1, 8));
+                    Vector256<double> b3 = Fma.MultiplyAdd(m1, t3, Vector256.LoadUnsafe(ref r1, 12));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 4);
+                    a2.StoreUnsafe(ref r0, 8);
+                    a3.StoreUnsafe(ref r0, 12);
+                    b0.StoreUnsafe(ref r1);
+                    b1.StoreUnsafe(ref r1, 4);
+                    b2.StoreUnsafe(ref r1, 8);
+                    b3.StoreUnsafe(ref r1, 12);
+                    e0 = Fma.MultiplyAdd(x0, a0, e0);
+                    e1 = Fma.MultiplyAdd(x0, a1, e1);
+                    e2 = Fma.MultiplyAdd(x0, a2, e2);
+                    e3 = Fma.MultiplyAdd(x0, a3, e3);
+                    o0 = Fma.MultiplyAdd(x1, b0, o0);
+                    o1 = Fma.MultiplyAdd(x1, b1, o1);
+                    o2 = Fma.MultiplyAdd(x1, b2, o2);
+                    o3 = Fma.MultiplyAdd(x1, b3, o3);
+                }
+
+                if (j < p)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
+                    Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
+                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> a2 = Fma.MultiplyAdd(m0, t2, Vector256.LoadUnsafe(ref r0, 8));
+                    Vector256<double> a3 = Fma.MultiplyAdd(m0, t3, Vector256.LoadUnsafe(ref r0, 12));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 4);
+                    a2.StoreUnsafe(ref r0, 8);
+                    a3.StoreUnsafe(ref r0, 12);
+                    e0 = Fma.MultiplyAdd(x0, a0, e0);
+                    e1 = Fma.MultiplyAdd(x0, a1, e1);
+                    e2 = Fma.MultiplyAdd(x0, a2, e2);
+                    e3 = Fma.MultiplyAdd(x0, a3, e3);
+                }
+
+                ref double uc = ref Unsafe.Add(ref u, c);
+                (e0 + o0).StoreUnsafe(ref uc);
+                (e1 + o1).StoreUnsafe(ref uc, 4);
+                (e2 + o2).StoreUnsafe(ref uc, 8);
+                (e3 + o3).StoreUnsafe(ref uc, 12);
+            }
+
+            if (c + 8 <= s)
+            {
+                ref double tc = ref Unsafe.Add(ref t, c);
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref tc), t1 = Vector256.LoadUnsafe(ref tc, 4);
+                Vector256<double> e0 = Vector256<double>.Zero, e1 = e0, o0 = e0, o1 = e0;
+                int j = 0;
+                for (; j + 2 <= p; j += 2)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
+                    Vector256<double> m1 = Vector256.Create(-Unsafe.Add(ref t, j + 1));
+                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> b0 = Fma.MultiplyAdd(m1, t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> b1 = Fma.MultiplyAdd(m1, t1, Vector256.LoadUnsafe(ref r1, 4));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 4);
+                    b0.StoreUnsafe(ref r1);
+                    b1.StoreUnsafe(ref r1, 4);
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
+                    e1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a1, e1);
+                    o0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 1)), b0, o0);
+                    o1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 1)), b1, o1);
+                }
+
+                if (j < p)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
+                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 4);
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
+                    e1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a1, e1);
+                }
+
+                ref double uc = ref Unsafe.Add(ref u, c);
+                (e0 + o0).StoreUnsafe(ref uc);
+                (e1 + o1).StoreUnsafe(ref uc, 4);
+                c += 8;
+            }
+
+            if (c + 4 <= s)
+            {
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref Unsafe.Add(ref t, c));
+                Vector256<double> e0 = Vector256<double>.Zero, o0 = e0, e1 = e0, o1 = e0;
+                int j = 0;
+                for (; j + 4 <= p; j += 4)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    ref double r2 = ref Unsafe.Add(ref r0, 2 * s);
+                    ref double r3 = ref Unsafe.Add(ref r0, 3 * s);
+                    Vector256<double> a0 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j)), t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 1)), t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> a2 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 2)), t0, Vector256.LoadUnsafe(ref r2));
+                    Vector256<double> a3 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 3)), t0, Vector256.LoadUnsafe(ref r3));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r1);
+                    a2.StoreUnsafe(ref r2);
+                    a3.StoreUnsafe(ref r3);
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
+                    o0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 1)), a1, o0);
+                    e1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 2)), a2, e1);
+                    o1 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j + 3)), a3, o1);
+                }
+
+                for (; j < p; j++)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector256<double> a0 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j)), t0, Vector256.LoadUnsafe(ref r0));
+                    a0.StoreUnsafe(ref r0);
+                    e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
+                }
+
+                ((e0 + o0) + (e1 + o1)).StoreUnsafe(ref Unsafe.Add(ref u, c));
+            }
+        }
+
+        private static void DowndateVector(ref double a, int s, int p, ref double t)
+        {
+            int c = 0;
+
+            // Column blocks of 16, 8 and 4 with the block of t held in registers over all rows; every row operation is independent, so the
+            // loop runs at the load/store throughput.
+            for (; c + 16 <= s; c += 16)
+            {
+                ref double tc = ref Unsafe.Add(ref t, c);
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref tc), t1 = Vector256.LoadUnsafe(ref tc, 4), t2 = Vector256.LoadUnsafe(ref tc, 8), t3 = Vector256.LoadUnsafe(ref tc, 12);
+                for (int i = 0; i < p; i++)
+                {
+                    ref double r = ref Unsafe.Add(ref a, (i * s) + c);
+                    Vector256<double> m = Vector256.Create(-Unsafe.Add(ref t, i));
+                    Fma.MultiplyAdd(m, t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                    Fma.MultiplyAdd(m, t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
+                    Fma.MultiplyAdd(m, t2, Vector256.LoadUnsafe(ref r, 8)).StoreUnsafe(ref r, 8);
+                    Fma.MultiplyAdd(m, t3, Vector256.LoadUnsafe(ref r, 12)).StoreUnsafe(ref r, 12);
+                }
+            }
+
+            if (c + 8 <= s)
+            {
+                ref double tc = ref Unsafe.Add(ref t, c);
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref tc), t1 = Vector256.LoadUnsafe(ref tc, 4);
+                for (int i = 0; i < p; i++)
+                {
+                    ref double r = ref Unsafe.Add(ref a, (i * s) + c);
+                    Vector256<double> m = Vector256.Create(-Unsafe.Add(ref t, i));
+                    Fma.MultiplyAdd(m, t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                    Fma.MultiplyAdd(m, t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
+                }
+
+                c += 8;
+            }
+
+            if (c + 4 <= s)
+            {
+                Vector256<double> t0 = Vector256.LoadUnsafe(ref Unsafe.Add(ref t, c));
+                for (int i = 0; i < p; i++)
+                {
+                    ref double r = ref Unsafe.Add(ref a, (i * s) + c);
+                    Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, i)), t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                }
+            }
+        }
+#endif
+    }
+}
