@@ -80,6 +80,47 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
+        /// The fixed-size projection for order p ≤ 4 (stride 4, A allocated with 4 rows whose rows p … 3 are zero): when
+        /// <paramref name="downdate"/> is set, A ← A − t·tᵀ first (every row; t's pad is zero so the zero rows stay zero); then u ← A·x and
+        /// the return value is xᵀu. Everything stays in four registers, with no loop and no second pass over u. Bit for bit the downdate of
+        /// <see cref="RankOneDowndate"/> (the same single-rounding FMA per entry); u and xᵀu are summed in a fixed order of their own.
+        /// Vector path only (<see cref="IsVectorized"/>).
+        /// </summary>
+        public static double ProjectSmall(Span<double> a, int p, bool downdate, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
+        {
+#if NET
+            ref double ar = ref MemoryMarshal.GetReference(a.Slice(0, 16));
+            Vector256<double> r0 = Vector256.LoadUnsafe(ref ar);
+            Vector256<double> r1 = Vector256.LoadUnsafe(ref ar, 4);
+            Vector256<double> r2 = Vector256.LoadUnsafe(ref ar, 8);
+            Vector256<double> r3 = Vector256.LoadUnsafe(ref ar, 12);
+            if (downdate)
+            {
+                Vector256<double> tv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(t.Slice(0, 4)));
+                Vector256<double> m = -tv;
+                r0 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(0)), tv, r0);
+                r1 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(1)), tv, r1);
+                r2 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(2)), tv, r2);
+                r3 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(3)), tv, r3);
+                r0.StoreUnsafe(ref ar);
+                r1.StoreUnsafe(ref ar, 4);
+                r2.StoreUnsafe(ref ar, 8);
+                r3.StoreUnsafe(ref ar, 12);
+            }
+
+            Vector256<double> xv = p == 4
+                ? Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x.Slice(0, 4)))
+                : Vector256.Create(x[0], p > 1 ? x[1] : 0.0, p > 2 ? x[2] : 0.0, 0.0);
+            Vector256<double> uv = Fma.MultiplyAdd(Vector256.Create(xv.GetElement(1)), r1, Vector256.Create(xv.GetElement(0)) * r0)
+                + Fma.MultiplyAdd(Vector256.Create(xv.GetElement(3)), r3, Vector256.Create(xv.GetElement(2)) * r2);
+            uv.StoreUnsafe(ref MemoryMarshal.GetReference(u.Slice(0, 4)));
+            return Vector256.Sum(xv * uv);
+#else
+            throw new PlatformNotSupportedException();
+#endif
+        }
+
+        /// <summary>
         /// A ← A − t·tᵀ over rows 0 … p−1 and all s columns (t has length s, zero beyond p so the pad stays zero). p·s multiply-adds, in place,
         /// no allocation. The caller checks beforehand that the result is acceptable (positive diagonal, no overflow): this kernel cannot fail.
         /// </summary>

@@ -29,13 +29,13 @@ namespace OnlineRidge
     /// <para><b>Trade-offs.</b></para>
     /// <list type="table">
     /// <listheader><term>policy</term><description>bound on P; batch equivalence; cost per update</description></listheader>
-    /// <item><term>None</term><description>none (P grows like β⁻ᵐ over m unexcited steps); regime D of MATH.md §1.1; ≈ 1.5·p²</description></item>
+    /// <item><term>None</term><description>none (P grows like β⁻ᵐ over m unexcited steps); regime D of MATH.md §1.1; ≈ 2·p² in one pass over P (in place, forgetting in a scalar)</description></item>
     /// <item><term>TraceBound</term><description>tr(P) ≤ c_max; exactly the §1.1 objective with the products of the recorded factors βⱼ
-    /// (<see cref="CovarianceFormEstimator.LogForgettingProduct"/>); ≈ 1.5·p² + p</description></item>
+    /// (<see cref="CovarianceFormEstimator.LogForgettingProduct"/>); ≈ 2·p² + 2p, as None</description></item>
     /// <item><term>ExponentialResetting</term><description>σ_lo·I ⪯ P ⪯ σ_hi·I for every regressor sequence; none; ≈ p³/2 + 2·p² (the c·P² term is a
     /// matrix product, the only policy above O(p²))</description></item>
     /// <item><term>Directional</term><description>no uniform bound, but unexcited directions keep their information exactly; none (tested against its
-    /// information-form recursion); ≈ 1.5·p²</description></item>
+    /// information-form recursion); ≈ 2.5·p² (double-buffered upper-triangle update, mirror and product)</description></item>
     /// </list>
     /// <para>Instances are immutable and thread-safe. Equality is by value.</para>
     /// </remarks>
