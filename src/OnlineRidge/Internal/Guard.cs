@@ -65,6 +65,11 @@ namespace OnlineRidge.Internal
         /// <summary>Rejects any non-finite entry.</summary>
         public static void AllFinite(ReadOnlySpan<double> values, string paramName)
         {
+            if (AreAllFinite(values))
+            {
+                return;
+            }
+
             for (int i = 0; i < values.Length; i++)
             {
                 if (!IsFinite(values[i]))
@@ -103,15 +108,39 @@ namespace OnlineRidge.Internal
                 return false;
             }
 
-            for (int i = 0; i < x.Length; i++)
+            return AreAllFinite(x);
+        }
+
+        /// <summary>
+        /// True when every value is finite: Σ (vᵢ − vᵢ) is 0 exactly when no vᵢ is ±∞ or NaN (v − v is NaN for those), so one branch-free
+        /// pass (vectorized on the net10.0 build) tests the whole span. O(n), no allocation.
+        /// </summary>
+        public static bool AreAllFinite(ReadOnlySpan<double> values)
+        {
+            int n = values.Length;
+            int i = 0;
+            double probe = 0.0;
+#if NET
+            if (System.Runtime.Intrinsics.Vector256.IsHardwareAccelerated && n >= 4)
             {
-                if (!IsFinite(x[i]))
+                ref double r = ref System.Runtime.InteropServices.MemoryMarshal.GetReference(values);
+                System.Runtime.Intrinsics.Vector256<double> acc = System.Runtime.Intrinsics.Vector256<double>.Zero;
+                for (; i + 4 <= n; i += 4)
                 {
-                    return false;
+                    System.Runtime.Intrinsics.Vector256<double> v = System.Runtime.Intrinsics.Vector256.LoadUnsafe(ref r, (nuint)i);
+                    acc += v - v;
                 }
+
+                probe = System.Runtime.Intrinsics.Vector256.Sum(acc);
+            }
+#endif
+            for (; i < n; i++)
+            {
+                double v = values[i];
+                probe += v - v;
             }
 
-            return true;
+            return probe == 0.0;
         }
 
         public static void NotNull([NotNull] object? value, string paramName)
