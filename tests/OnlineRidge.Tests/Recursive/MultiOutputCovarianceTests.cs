@@ -11,7 +11,7 @@ namespace OnlineRidge.Tests.Recursive
         /// <summary>
         /// Theorem: with common regressors and weights, the regime-D objectives of the outputs share H (hence P and the gain) and differ only
         /// in their right-hand sides, so each output of the shared estimator equals a single-output covariance-form estimator fed that output
-        /// (the single-output estimator is the reference; agreement up to rounding of reordered dot products).
+        /// (the single-output estimator is the reference; agreement up to rounding: the two keep P in different representations).
         /// </summary>
         [Property(MaxTest = 200, Replay = "(81,83)")]
         public void EachOutputEqualsASingleOutputEstimatorOnIt(int seed, byte pRaw, byte mRaw, byte nRaw, bool forget)
@@ -65,7 +65,10 @@ namespace OnlineRidge.Tests.Recursive
             var ps = new double[p * p];
             multi.CopyCovarianceTo(pm);
             single[0].CopyCovarianceTo(ps);
-            Assert.Equal(ps, pm);
+
+            // The shared estimator updates a packed triangle, the single-output one a scaled dense matrix: the same P up to rounding.
+            double largest = ps.Max(Math.Abs);
+            Assert.True(pm.Zip(ps, (u, v) => Math.Abs(u - v)).Max() <= 1e-10 * largest, "shared covariance");
         }
 
         [Fact]
