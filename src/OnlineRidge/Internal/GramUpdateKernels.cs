@@ -12,14 +12,14 @@ using System.Runtime.Intrinsics.X86;
 namespace OnlineRidge.Internal
 {
     /// <summary>
-    /// Span kernels of the information-form statistics held in <em>block-padded upper storage</em>: a symmetric matrix of order d is kept in
-    /// d rows of <see cref="Stride"/>(d) doubles (d rounded up to the block width <see cref="BlockWidth"/>, the hardware vector length in the
-    /// net10.0 build and 1 in the portable build); entry (i, j), i ≤ j, lives at i·stride + j. Row i is maintained from column
-    /// <see cref="RowStart"/>(i) (i rounded down to a block boundary) to the end of the row, so every row update is a whole number of vectors
-    /// with no scalar tail and no per-row length computation. The up to <see cref="BlockWidth"/> − 1 entries just left of the diagonal in
-    /// that first block are updated too; they are never read (readers use the upper triangle only), so exact symmetry of what is read still
-    /// holds by construction. Columns d … stride − 1 are padding: the vector they are updated with is zero there, so they stay as they are.
-    /// No allocation anywhere.
+    /// Span kernels of the information-form statistics. A symmetric matrix of order n + 1 is kept in the <em>split layout</em> of
+    /// <see cref="AddRankOneSplit"/>: its leading block of order n in <em>block-padded upper storage</em> — n rows of <see cref="Stride"/>(n)
+    /// doubles (n rounded up to the block width <see cref="BlockWidth"/>, the hardware vector length in the net10.0 build and 1 in the portable
+    /// build), entry (i, j), i ≤ j, at i·stride + j — then its last column as one more row, then its corner. Row i of the block is maintained
+    /// from column <see cref="RowStart"/>(i) (i rounded down to a block boundary) to the end of the row, so every row update is a whole number
+    /// of vectors with no scalar tail. The up to <see cref="BlockWidth"/> − 1 entries just left of the diagonal in that first block are updated
+    /// too; they are never read (readers use the upper triangle only), so exact symmetry of what is read still holds by construction. Columns
+    /// n … stride − 1 are padding: the vector they are updated with is zero there, so they stay as they are. No allocation anywhere.
     /// </summary>
     internal static class GramUpdateKernels
     {
@@ -194,9 +194,7 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>Copies x into the front of u and returns Σ xⱼ² (NaN or ∞ when an entry is not finite or the sum overflows). O(n), no allocation.</summary>
-#if NET
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-#endif
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public static double CopyWithSquaredNorm(ReadOnlySpan<double> x, Span<double> u)
         {
             int n = x.Length;
@@ -235,9 +233,7 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>δ ← u − m over u's length and returns Σ δⱼ² (the centering step of the streaming co-moments). O(n), no allocation.</summary>
-#if NET
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-#endif
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public static double Center(ReadOnlySpan<double> u, ReadOnlySpan<double> mean, Span<double> delta)
         {
             int n = u.Length;
@@ -277,9 +273,7 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>y ← y + a·x over x's length (a multiply and an add per entry, as the scalar loop; no fusion, so both builds agree). O(n).</summary>
-#if NET
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
-#endif
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public static void Axpy(double a, ReadOnlySpan<double> x, Span<double> y)
         {
             int n = x.Length;

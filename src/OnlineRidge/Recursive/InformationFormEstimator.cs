@@ -1,9 +1,7 @@
 using System;
 using System.Collections.Generic;
 using System.IO;
-#if NET
 using System.Runtime.CompilerServices;
-#endif
 using MathNet.Numerics.LinearAlgebra;
 using OnlineRidge.Internal;
 using OnlineRidge.Persistence;
@@ -33,10 +31,12 @@ namespace OnlineRidge
     /// only, plus one division (two more with an intercept); twice that with the optional squared-forgetting Gram; no allocation. The
     /// forgetting costs nothing per entry: each statistic is held as s·G̃ with the scalar s = βⁿ, an update adds (w/s)·uuᵀ to G̃ and
     /// multiplies s by β, and about every 2³²-fold decay of s (every ≈ 22 000 updates at β = 0.999) G̃ is rescaled by an exact power of two
-    /// (O(p²), no rounding). A zero-weight update is O(p). Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty,
+    /// (O(p²), no rounding). A zero-weight update is O(p). The update path is compiled fully optimized on first use (no slower warm-up
+    /// phase). Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty,
     /// allocating. Storage about (p+1)·⌈p+1⌉ᵥ + p² doubles (rows padded to whole vectors). The solution behind <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
     /// <para><b>Accuracy.</b> Limited by the squared condition: cond(G) = cond(X_w)², so the relative error of θ̂ is of order ε·cond(H)
     /// (MATH.md §5.4) — twice the digits a square-root form loses. Centering (the intercept case) removes the damage a large mean would do.
+    /// Holding the forgetting in the scalar s costs one extra rounding per entry read (s·G̃ᵢⱼ); its renormalizations by powers of two cost none.
     /// A solve whose condition estimate of H exceeds <see cref="RidgeSettings.CholeskyConditionLimit"/> is refused
     /// (<see cref="BreakdownKind.IllConditioned"/>). <see cref="RidgeSettings.RefinementSteps"/> does not apply (no data rows are retained).</para>
     /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> naming the parameter before any change. A solve that breaks down
@@ -85,11 +85,14 @@ namespace OnlineRidge
         // Optional squared-forgetting Gram G₂ (MATH.md §6.2) of the regressor as the model sees it: (1, x) with an intercept, x without.
         private readonly ScaledGram? squaredGram;
 
-        // x padded with zeros to the Gram's row length (used when p is not a multiple of the vector length; the head of u = (x, y));
+        // x padded with zeros to the Gram's row length (the head of u = (x, y), without an intercept);
         // the head of the model regressor (1, x) or x, padded likewise (only with G₂). 64-byte aligned from uStart and modelStart.
         private readonly double[] u;
         private readonly int uStart;
         private readonly int headStride;
+
+        /// <summary>Below this p (and when p is a whole number of vectors) the kernel reads x in place: the copy would cost more than the split loads.</summary>
+        private const int DirectHeadLimit = 16;
         private readonly double[]? model;
         private readonly int modelStart;
         private readonly double[] hessian;
@@ -267,19 +270,19 @@ namespace OnlineRidge
         {
             Guard.Length(x.Length, p, nameof(x));
 
-            // ‖x‖² (and, without an intercept when p is not a whole number of vectors, the zero-padded copy of x the kernel reads). A finite
-            // ‖x‖² + y² proves every entry finite, so the per-entry checks run only when it is not (a bad value, or a finite sample whose
-            // square overflows: then the overflow guard below reports it).
-            int stride = headStride;
+            // ‖x‖² (and, without an intercept, the head the kernel reads: x itself when it is a few whole vectors, else its copy into the
+            // aligned, zero-padded buffer, which keeps the O(p²) vector loads of the kernel from straddling cache lines). A finite ‖x‖² + y²
+            // proves every entry finite, so the per-entry checks run only when it is not (a bad value, or a finite sample whose square
+            // overflows: then the overflow guard below reports it).
             ReadOnlySpan<double> head = x;
             double normX;
-            if (intercept || stride == p)
+            if (intercept || (headStride == p && p < DirectHeadLimit))
             {
                 normX = GramUpdateKernels.SquaredNorm(x);
             }
             else
             {
-                Span<double> padded = u.AsSpan(uStart, stride);
+                Span<double> padded = u.AsSpan(uStart, headStride);
                 normX = GramUpdateKernels.CopyWithSquaredNorm(x, padded);
                 head = padded;
             }
@@ -287,20 +290,12 @@ namespace OnlineRidge
             double norm2 = normX + (y * y);
             if (!(norm2 <= double.MaxValue) || !(weight >= 0.0) || double.IsInfinity(weight))
             {
-                if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(x, y, weight))
+                if (SkipsOrThrows(x, y, weight))
                 {
                     skipped++;
                     breakdown = Success;
                     return true;
                 }
-
-                Guard.AllFinite(x, nameof(x));
-                if (!Guard.IsFinite(y))
-                {
-                    Guard.ThrowOutOfRange(nameof(y), y, "must be a finite number");
-                }
-
-                Guard.Weight(weight, nameof(weight));
             }
 
             double newSquaredTrace = 0.0;
@@ -336,10 +331,7 @@ namespace OnlineRidge
 
             if (squaredGram is not null)
             {
-                // G₂ over (1, x) or x: the padded model regressor (its leading 1 and its zero padding are set once).
-                Span<double> regressor = model.AsSpan(modelStart, squaredGram.Stride);
-                x.Slice(0, p - 1).CopyTo(regressor.Slice(intercept ? 1 : 0));
-                squaredGram.Add(weight, regressor, x[p - 1], newSquaredTrace);
+                AddToSquaredGram(x, weight, newSquaredTrace);
             }
 
             DiscountedCount = (beta * DiscountedCount) + (weight > 0.0 ? 1.0 : 0.0);
@@ -347,6 +339,37 @@ namespace OnlineRidge
             solutionValid = false;
             breakdown = Success;
             return true;
+        }
+
+        /// <summary>
+        /// The per-entry checks, run only when the fast test failed: true when the sample is to be skipped (SkipAndCount), otherwise throws
+        /// for a bad value and returns false for a finite sample (whose squares overflowed: the overflow guard then reports it).
+        /// </summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private bool SkipsOrThrows(ReadOnlySpan<double> x, double y, double weight)
+        {
+            if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(x, y, weight))
+            {
+                return true;
+            }
+
+            Guard.AllFinite(x, nameof(x));
+            if (!Guard.IsFinite(y))
+            {
+                Guard.ThrowOutOfRange(nameof(y), y, "must be a finite number");
+            }
+
+            Guard.Weight(weight, nameof(weight));
+            return false;
+        }
+
+        /// <summary>G₂ ← β²G₂ + w·x̃x̃ᵀ over the padded model regressor (its leading 1 with an intercept and its zero padding are set once).</summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private void AddToSquaredGram(ReadOnlySpan<double> x, double weight, double newSquaredTrace)
+        {
+            Span<double> regressor = model.AsSpan(modelStart, squaredGram!.Stride);
+            x.Slice(0, p - 1).CopyTo(regressor.Slice(intercept ? 1 : 0));
+            squaredGram.Add(weight, regressor, x[p - 1], newSquaredTrace);
         }
 
         /// <summary>

@@ -23,7 +23,7 @@ namespace OnlineRidge.Standardization
     /// divisor is ever used). A component that has been exactly constant since the start has mean exactly that constant and variance exactly 0.
     /// Samples of weight 0 only forget (W and M are multiplied by β — M through its scalar factor, so to rounding — the means are unchanged)
     /// at O(1) cost.</para>
-    /// <para><b>Cost.</b> d(d+1)/2 + O(d·v) multiply-adds per update (v = hardware vector length, 1 in the portable build) and two divisions,
+    /// <para><b>Cost.</b> d(d+1)/2 + O(d·v) multiply-adds per update (v = hardware vector length, 1 in the portable build) and three divisions,
     /// no allocation; a zero-weight update is O(1). The forgetting costs nothing per entry: M is held as s·M̃ with the scalar s = β-power, so
     /// an update adds (w·β·W_old/(W·s))·δδᵀ to M̃ and multiplies s by β; about every 2³²-fold decay of s (every ≈ 22 000 updates at β = 0.999)
     /// M̃ is rescaled by an exact power of two (O(d²), no rounding). Storage about d·⌈d⌉ᵥ + 2d doubles (rows padded to whole vectors).
