@@ -1,6 +1,7 @@
 using System;
 using System.Collections.Generic;
 using System.IO;
+using System.Runtime.CompilerServices;
 using MathNet.Numerics.LinearAlgebra;
 using OnlineRidge.Internal;
 using OnlineRidge.Persistence;
@@ -26,11 +27,16 @@ namespace OnlineRidge
     /// n &gt; 708/(−ln β), where the decayed penalty is negligible anyway), never accumulated step by step. With standardization and an intercept, a column whose standard
     /// deviation is at rounding level (σⱼ ≤ 10³·ε·√(mⱼ² + σⱼ²)) is excluded (coefficient 0), as in <see cref="RidgeSettings.Standardize"/>;
     /// without an intercept a column that is exactly zero is excluded.</para>
-    /// <para><b>Cost.</b> Update: (p+1)(p+2)/2 multiply-adds (one more per entry when β &lt; 1; twice that with the optional squared-forgetting
-    /// Gram), no allocation. Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty, allocating. Storage about
-    /// (p+1)²/2 + p² doubles. The solution behind <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
+    /// <para><b>Cost.</b> Update: (p+1)(p+2)/2 + O(p·v) multiply-adds (v = hardware vector length, 1 in the portable build), whole vectors
+    /// only, plus one division (two more with an intercept); twice that with the optional squared-forgetting Gram; no allocation. The
+    /// forgetting costs nothing per entry: each statistic is held as s·G̃ with the scalar s = βⁿ, an update adds (w/s)·uuᵀ to G̃ and
+    /// multiplies s by β, and about every 2³²-fold decay of s (every ≈ 22 000 updates at β = 0.999) G̃ is rescaled by an exact power of two
+    /// (O(p²), no rounding). A zero-weight update is O(p). The update path is compiled fully optimized on first use (no slower warm-up
+    /// phase). Solve: p³/6 + O(p²), no allocation; penalty path: O(p³) + O(p²) per penalty,
+    /// allocating. Storage about (p+1)·⌈p+1⌉ᵥ + p² doubles (rows padded to whole vectors). The solution behind <see cref="CopyParametersTo"/>, <see cref="Intercept"/> and <see cref="Predict"/> is computed on first use after an update and cached.</para>
     /// <para><b>Accuracy.</b> Limited by the squared condition: cond(G) = cond(X_w)², so the relative error of θ̂ is of order ε·cond(H)
     /// (MATH.md §5.4) — twice the digits a square-root form loses. Centering (the intercept case) removes the damage a large mean would do.
+    /// Holding the forgetting in the scalar s costs one extra rounding per entry read (s·G̃ᵢⱼ); its renormalizations by powers of two cost none.
     /// A solve whose condition estimate of H exceeds <see cref="RidgeSettings.CholeskyConditionLimit"/> is refused
     /// (<see cref="BreakdownKind.IllConditioned"/>). <see cref="RidgeSettings.RefinementSteps"/> does not apply (no data rows are retained).</para>
     /// <para><b>Failures.</b> Invalid input throws <see cref="ArgumentException"/> naming the parameter before any change. A solve that breaks down
@@ -50,6 +56,10 @@ namespace OnlineRidge
     {
         private const double ConstantLevel = 1e3 * 2.220446049250313e-16;
 
+        /// <summary><see cref="BreakdownInfo.None"/>, read once (the hot update path then copies a field instead of calling the property).</summary>
+        private static readonly BreakdownInfo Success = BreakdownInfo.None;
+
+
         private readonly int p;
         private readonly double beta;
         private readonly bool intercept;
@@ -62,19 +72,29 @@ namespace OnlineRidge
         private readonly InvalidSamplePolicy invalidSamples;
         private long skipped;
         private const string SnapshotKind = "InformationFormEstimator";
-        private const int SnapshotVersion = 1;
 
-        // State: with an intercept the centered moments of u = (x, y); without, the packed Gram of u = (x, y) (G, b, c) and W.
+        /// <summary>Layout 2 adds the scales of the stored statistics (G = s·G̃); layout 1 (every scale 1) is still read.</summary>
+        private const int SnapshotVersion = 2;
+
+        // State: with an intercept the centered moments of u = (x, y); without, the Gram of u = (x, y) (G, b, c) and W. Each symmetric
+        // statistic is held as s·G̃ (ScaledGram): its overflow guard's trace is kept there, in true units.
         private readonly StreamingMoments? moments;
-        private readonly double[]? gram;
-        private double gramTrace;
+        private readonly ScaledGram? gram;
         private double weightSum;
 
         // Optional squared-forgetting Gram G₂ (MATH.md §6.2) of the regressor as the model sees it: (1, x) with an intercept, x without.
-        private readonly double[]? squaredGram;
-        private double squaredTrace;
+        private readonly ScaledGram? squaredGram;
 
+        // x padded with zeros to the Gram's row length (the head of u = (x, y), without an intercept);
+        // the head of the model regressor (1, x) or x, padded likewise (only with G₂). 64-byte aligned from uStart and modelStart.
         private readonly double[] u;
+        private readonly int uStart;
+        private readonly int headStride;
+
+        /// <summary>Below this p (and when p is a whole number of vectors) the kernel reads x in place: the copy would cost more than the split loads.</summary>
+        private const int DirectHeadLimit = 16;
+        private readonly double[]? model;
+        private readonly int modelStart;
         private readonly double[] hessian;
         private readonly double[] rhs;
         private readonly double[] scale;
@@ -147,15 +167,21 @@ namespace OnlineRidge
             }
             else
             {
-                gram = new double[RecursiveKernels.PackedLength(p + 1)];
+                gram = new ScaledGram(p + 1, beta);
             }
 
             if (trackSquaredForgettingGram)
             {
-                squaredGram = new double[RecursiveKernels.PackedLength(ModelDimension)];
+                squaredGram = new ScaledGram(ModelDimension, beta * beta);
+                model = GramUpdateKernels.AllocateAligned(squaredGram.Stride, out modelStart);
+                if (intercept)
+                {
+                    model[modelStart] = 1.0;
+                }
             }
 
-            u = new double[p + 1];
+            headStride = GramUpdateKernels.Stride(p);
+            u = GramUpdateKernels.AllocateAligned(headStride, out uStart);
             hessian = new double[p * p];
             rhs = new double[p];
             scale = new double[p];
@@ -206,6 +232,9 @@ namespace OnlineRidge
         /// <exception cref="ArgumentException">Wrong length, or a non-finite value under <see cref="InvalidSamplePolicy.Throw"/>.</exception>
         /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
         /// <remarks>O(p²), no allocation.</remarks>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public void Update(ReadOnlySpan<double> x, double y) => Update(x, y, 1.0);
 
         /// <inheritdoc/>
@@ -213,6 +242,9 @@ namespace OnlineRidge
         /// non-finite weight (under <see cref="InvalidSamplePolicy.SkipAndCount"/> those samples are skipped and counted).</exception>
         /// <exception cref="RidgeBreakdownException">The statistics would overflow; nothing changed.</exception>
         /// <remarks>O(p²), no allocation.</remarks>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public void Update(ReadOnlySpan<double> x, double y, double weight)
         {
             if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
@@ -231,13 +263,93 @@ namespace OnlineRidge
         /// <exception cref="ArgumentException">Wrong length, or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite value or a negative or
         /// non-finite weight.</exception>
         /// <remarks>O(p²), no allocation (also when skipping).</remarks>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+
+            // ‖x‖² (and, without an intercept, the head the kernel reads: x itself when it is a few whole vectors, else its copy into the
+            // aligned, zero-padded buffer, which keeps the O(p²) vector loads of the kernel from straddling cache lines). A finite ‖x‖² + y²
+            // proves every entry finite, so the per-entry checks run only when it is not (a bad value, or a finite sample whose square
+            // overflows: then the overflow guard below reports it).
+            ReadOnlySpan<double> head = x;
+            double normX;
+            if (intercept || (headStride == p && p < DirectHeadLimit))
+            {
+                normX = GramUpdateKernels.SquaredNorm(x);
+            }
+            else
+            {
+                Span<double> padded = u.AsSpan(uStart, headStride);
+                normX = GramUpdateKernels.CopyWithSquaredNorm(x, padded);
+                head = padded;
+            }
+
+            double norm2 = normX + (y * y);
+            if (!(norm2 <= double.MaxValue) || !(weight >= 0.0) || double.IsInfinity(weight))
+            {
+                if (SkipsOrThrows(x, y, weight))
+                {
+                    skipped++;
+                    breakdown = Success;
+                    return true;
+                }
+            }
+
+            double newSquaredTrace = 0.0;
+            if (squaredGram is not null)
+            {
+                newSquaredTrace = squaredGram.ProposedTrace(weight, normX + (intercept ? 1.0 : 0.0));
+                if (!(newSquaredTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newSquaredTrace, double.NaN);
+                    return false;
+                }
+            }
+
+            if (intercept)
+            {
+                if (!moments!.TryUpdateValidated(x, y, weight, out breakdown))
+                {
+                    return false;
+                }
+            }
+            else
+            {
+                double newTrace = gram!.ProposedTrace(weight, norm2);
+                if (!(newTrace < OverflowLevel))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
+                    return false;
+                }
+
+                gram.Add(weight, head, y, newTrace);
+                weightSum = (beta * weightSum) + weight;
+            }
+
+            if (squaredGram is not null)
+            {
+                AddToSquaredGram(x, weight, newSquaredTrace);
+            }
+
+            DiscountedCount = (beta * DiscountedCount) + (weight > 0.0 ? 1.0 : 0.0);
+            SampleCount++;
+            solutionValid = false;
+            breakdown = Success;
+            return true;
+        }
+
+        /// <summary>
+        /// The per-entry checks, run only when the fast test failed: true when the sample is to be skipped (SkipAndCount), otherwise throws
+        /// for a bad value and returns false for a finite sample (whose squares overflowed: the overflow guard then reports it).
+        /// </summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private bool SkipsOrThrows(ReadOnlySpan<double> x, double y, double weight)
+        {
             if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(x, y, weight))
             {
-                skipped++;
-                breakdown = BreakdownInfo.None;
                 return true;
             }
 
@@ -248,55 +360,16 @@ namespace OnlineRidge
             }
 
             Guard.Weight(weight, nameof(weight));
+            return false;
+        }
 
-            x.CopyTo(u);
-            u[p] = y;
-            double newSquaredTrace = 0.0;
-            if (squaredGram is not null)
-            {
-                double norm2 = RecursiveKernels.Dot(x, x) + (intercept ? 1.0 : 0.0);
-                newSquaredTrace = (beta * beta * squaredTrace) + (weight * norm2);
-                if (!(newSquaredTrace < OverflowLevel))
-                {
-                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newSquaredTrace, double.NaN);
-                    return false;
-                }
-            }
-
-            if (intercept)
-            {
-                if (!moments!.TryUpdateValidated(u, weight, out breakdown))
-                {
-                    return false;
-                }
-            }
-            else
-            {
-                double newTrace = (beta * gramTrace) + (weight * RecursiveKernels.Dot(u, u));
-                if (!(newTrace < OverflowLevel))
-                {
-                    breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
-                    return false;
-                }
-
-                RecursiveKernels.ScaleAddRankOne(gram, p + 1, beta, weight, u);
-                gramTrace = newTrace;
-                weightSum = (beta * weightSum) + weight;
-            }
-
-            if (squaredGram is not null)
-            {
-                // G₂ over (1, x) or x: reuse u's storage shifted so that the model regressor is contiguous.
-                ReadOnlySpan<double> model = ModelRegressor(x);
-                RecursiveKernels.ScaleAddRankOne(squaredGram, ModelDimension, beta * beta, weight, model);
-                squaredTrace = newSquaredTrace;
-            }
-
-            DiscountedCount = (beta * DiscountedCount) + (weight > 0.0 ? 1.0 : 0.0);
-            SampleCount++;
-            solutionValid = false;
-            breakdown = BreakdownInfo.None;
-            return true;
+        /// <summary>G₂ ← β²G₂ + w·x̃x̃ᵀ over the padded model regressor (its leading 1 with an intercept and its zero padding are set once).</summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private void AddToSquaredGram(ReadOnlySpan<double> x, double weight, double newSquaredTrace)
+        {
+            Span<double> regressor = model.AsSpan(modelStart, squaredGram!.Stride);
+            x.Slice(0, p - 1).CopyTo(regressor.Slice(intercept ? 1 : 0));
+            squaredGram.Add(weight, regressor, x[p - 1], newSquaredTrace);
         }
 
         /// <summary>
@@ -412,8 +485,7 @@ namespace OnlineRidge
                 return false;
             }
 
-            int d = p + 1;
-            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            ScaledGram m = intercept ? moments!.Comoments : gram!;
             ReadOnlySpan<double> means = intercept ? moments!.RawMeans : default;
             int q = SelectColumns(m, w, means);
             double decay = penaltyRegime == PenaltyRegime.Decaying ? StreamingMoments.Decay(beta, SampleCount) : 1.0;
@@ -426,10 +498,10 @@ namespace OnlineRidge
                 int a = active[k];
                 for (int l = 0; l < q; l++)
                 {
-                    h[k, l] = RecursiveKernels.Get(m, d, a, active[l]) / (scale[a] * scale[active[l]]);
+                    h[k, l] = m.Get(a, active[l]) / (scale[a] * scale[active[l]]);
                 }
 
-                c1[k] = RecursiveKernels.Get(m, d, a, p) / scale[a];
+                c1[k] = m.Get(a, p) / scale[a];
                 g0[k] = scale[a] * prior[a];
             }
 
@@ -562,7 +634,7 @@ namespace OnlineRidge
                 Guard.ThrowLength(nameof(destination), destination.Length, d * d);
             }
 
-            RecursiveKernels.Unpack(squaredGram, d, destination);
+            squaredGram.Unpack(destination);
         }
 
         /// <summary>
@@ -604,7 +676,7 @@ namespace OnlineRidge
             double newSquaredTrace = 0.0;
             if (squaredGram is not null)
             {
-                newSquaredTrace = (age * age * squaredTrace) + later.squaredTrace;
+                newSquaredTrace = (age * age * squaredGram.Trace) + later.squaredGram!.Trace;
                 if (!(newSquaredTrace < OverflowLevel))
                 {
                     breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newSquaredTrace, double.NaN);
@@ -621,22 +693,20 @@ namespace OnlineRidge
             }
             else
             {
-                double newTrace = (age * gramTrace) + later.gramTrace;
+                double newTrace = (age * gram!.Trace) + later.gram!.Trace;
                 if (!(newTrace < OverflowLevel))
                 {
                     breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
                     return false;
                 }
 
-                AgeAndAdd(gram!, age, later.gram!);
-                gramTrace = newTrace;
+                gram.MergeFrom(age, later.gram, 0.0, default, newTrace);
                 weightSum = (age * weightSum) + later.weightSum;
             }
 
             if (squaredGram is not null)
             {
-                AgeAndAdd(squaredGram, age * age, later.squaredGram!);
-                squaredTrace = newSquaredTrace;
+                squaredGram.MergeFrom(age * age, later.squaredGram!, 0.0, default, newSquaredTrace);
             }
 
             DiscountedCount = (age * DiscountedCount) + later.DiscountedCount;
@@ -647,14 +717,15 @@ namespace OnlineRidge
             return true;
         }
 
-        private const double OverflowLevel = double.MaxValue / 4.0;
+        private const double OverflowLevel = ScaledGram.OverflowLevel;
 
         /// <summary>
         /// Writes the complete state — every <see cref="RidgeSettings"/> property (penalty, forgetting factor, intercept, standardization, prior,
         /// solver, rank tolerance, covariance model, refinement steps, Cholesky condition limit), the regime, the G₂ tracking flag, the
         /// invalid-sample policy, p, <see cref="SampleCount"/>, <see cref="SkippedSampleCount"/>, <see cref="DiscountedCount"/> and the
-        /// statistics (centered moments with an intercept, packed Gram of (x, y) and W without, G₂ when tracked, and the overflow guards' traces)
-        /// — as a versioned, checksummed snapshot (kind "InformationFormEstimator", layout version 1).
+        /// statistics as stored (centered moments with an intercept, Gram of (x, y) and W without, G₂ when tracked: each symmetric statistic
+        /// G = s·G̃ as the packed upper triangle of G̃ and the scale s; and the overflow guards' traces) — as a versioned, checksummed snapshot
+        /// (kind "InformationFormEstimator", layout version 2; <see cref="ReadSnapshot"/> also reads layout 1, which stored G itself).
         /// </summary>
         /// <param name="destination">Writable stream; written at its position and left open.</param>
         /// <param name="encoding">Binary (default) or indented JSON with the same entries (settings by name).</param>
@@ -690,12 +761,12 @@ namespace OnlineRidge
             }
             else
             {
-                record.Add("weightSum", weightSum).Add("gramTrace", gramTrace).Add("gram", gram);
+                record.Add("weightSum", weightSum).Add("gramTrace", gram!.Trace).Add("gram", gram.PackedStored()).Add("gramScale", gram.Scale);
             }
 
             if (squaredGram is not null)
             {
-                record.Add("squaredTrace", squaredTrace).Add("squaredGram", squaredGram);
+                record.Add("squaredTrace", squaredGram.Trace).Add("squaredGram", squaredGram.PackedStored()).Add("squaredScale", squaredGram.Scale);
             }
 
             SnapshotSupport.Write(record, destination, encoding);
@@ -742,42 +813,50 @@ namespace OnlineRidge
             est.DiscountedCount = SnapshotSupport.NonNegative(r, "discountedCount");
             if (est.intercept)
             {
-                est.moments!.RestoreStateFrom(r, "moments.");
+                est.moments!.RestoreStateFrom(r, "moments.", r.KindVersion);
             }
             else
             {
                 est.weightSum = SnapshotSupport.NonNegative(r, "weightSum");
-                est.gramTrace = RestorePacked(r, "gram", "gramTrace", p + 1, est.gram!);
+                RestorePacked(r, "gram", "gramTrace", "gramScale", est.gram!);
             }
 
             if (track)
             {
-                est.squaredTrace = RestorePacked(r, "squaredGram", "squaredTrace", est.ModelDimension, est.squaredGram!);
+                RestorePacked(r, "squaredGram", "squaredTrace", "squaredScale", est.squaredGram!);
             }
 
             return est;
         }
 
-        /// <summary>Validates a packed symmetric statistic and its tracked trace (finite, diagonal ≥ 0, trace bounding the diagonal) and copies it.</summary>
-        private static double RestorePacked(StateRecord r, string name, string traceName, int d, double[] target)
+        /// <summary>
+        /// Validates a stored symmetric statistic — packed G̃, its scale (layout 2; 1 in layout 1) and its tracked trace: finite, diagonal ≥ 0,
+        /// trace bounding the diagonal of s·G̃ — and restores it into <paramref name="target"/>.
+        /// </summary>
+        private static void RestorePacked(StateRecord r, string name, string traceName, string scaleName, ScaledGram target)
         {
+            int d = target.Order;
             double trace = SnapshotSupport.NonNegative(r, traceName);
             if (!(trace < OverflowLevel))
             {
                 throw SnapshotSupport.Invalid("snapshot entry '{0}' = {1:R} exceeds the overflow limit", traceName, trace);
             }
 
-            double[] packed = SnapshotSupport.FiniteArray(r, name, target.Length);
-            double diagonal = 0.0;
-            for (int j = 0; j < d; j++)
+            double[] packed = SnapshotSupport.FiniteArray(r, name, RecursiveKernels.PackedLength(d));
+            double scale = 1.0;
+            if (r.KindVersion >= 2)
             {
-                double v = packed[RecursiveKernels.RowOffset(j, d)];
-                if (!(v >= 0.0))
+                scale = r.GetDouble(scaleName);
+                if (!target.IsValidScale(scale))
                 {
-                    throw SnapshotSupport.Invalid("snapshot entry '{0}' has the negative diagonal entry {1:R} at {2}", name, v, j);
+                    throw SnapshotSupport.Invalid("snapshot entry '{0}' = {1:R} is outside [2^-32, 1]", scaleName, scale);
                 }
+            }
 
-                diagonal += v;
+            double diagonal = ScaledGram.PackedDiagonalSum(packed, d, scale, out int negative);
+            if (negative >= 0)
+            {
+                throw SnapshotSupport.Invalid("snapshot entry '{0}' has the negative diagonal entry {1:R} at {2}", name, packed[RecursiveKernels.RowOffset(negative, d)], negative);
             }
 
             if (!(diagonal <= (trace * (1.0 + 1e-6)) + 1e-300))
@@ -785,32 +864,10 @@ namespace OnlineRidge
                 throw SnapshotSupport.Invalid("snapshot entry '{0}' (trace {1:R}) is inconsistent with '{2}' = {3:R}", name, diagonal, traceName, trace);
             }
 
-            packed.AsSpan().CopyTo(target);
-            return trace;
+            target.Restore(packed, scale, trace);
         }
 
         private int ModelDimension => intercept ? p + 1 : p;
-
-        /// <summary>The model regressor (1, x) or x, laid out in the scratch vector (overwrites u; call after the state update).</summary>
-        private ReadOnlySpan<double> ModelRegressor(ReadOnlySpan<double> x)
-        {
-            if (!intercept)
-            {
-                return x;
-            }
-
-            u[0] = 1.0;
-            x.CopyTo(u.AsSpan(1));
-            return u;
-        }
-
-        private static void AgeAndAdd(double[] target, double age, double[] source)
-        {
-            for (int i = 0; i < target.Length; i++)
-            {
-                target[i] = (age * target[i]) + source[i];
-            }
-        }
 
         private void EnsureSolved()
         {
@@ -830,9 +887,8 @@ namespace OnlineRidge
         }
 
         /// <summary>Fills scale (D) and active (non-excluded columns) per the standardization rule; returns the number of active columns.</summary>
-        private int SelectColumns(ReadOnlySpan<double> m, double w, ReadOnlySpan<double> means)
+        private int SelectColumns(ScaledGram m, double w, ReadOnlySpan<double> means)
         {
-            int d = p + 1;
             int q = 0;
             for (int j = 0; j < p; j++)
             {
@@ -840,7 +896,7 @@ namespace OnlineRidge
                 bool exclude = false;
                 if (standardize)
                 {
-                    s = Math.Sqrt(m[RecursiveKernels.RowOffset(j, d)] / w);
+                    s = Math.Sqrt(m.Get(j, j) / w);
                     exclude = intercept
                         ? s <= ConstantLevel * Math.Sqrt((means[j] * means[j]) + (s * s))
                         : s == 0.0;
@@ -859,8 +915,7 @@ namespace OnlineRidge
         /// <summary>The solve of MATH.md §4.4–4.5 / §5.2 in scaled coordinates γ = Dθ over the active columns.</summary>
         private bool SolveCore(double lambda, Span<double> theta, out double b0, out BreakdownInfo breakdown)
         {
-            int d = p + 1;
-            ReadOnlySpan<double> m = intercept ? moments!.PackedComoment : gram;
+            ScaledGram m = intercept ? moments!.Comoments : gram!;
             double w = WeightSum;
             b0 = double.NaN;
             if (!(w > 0.0))
@@ -883,11 +938,11 @@ namespace OnlineRidge
                 for (int l = k; l < q; l++)
                 {
                     int c = active[l];
-                    hessian[row + l] = RecursiveKernels.Get(m, d, a, c) / (sa * scale[c]);
+                    hessian[row + l] = m.Get(a, c) / (sa * scale[c]);
                 }
 
                 hessian[row + k] += lambda;
-                rhs[k] = (RecursiveKernels.Get(m, d, a, p) / sa) + (lambda * (sa * prior[a]));
+                rhs[k] = (m.Get(a, p) / sa) + (lambda * (sa * prior[a]));
             }
 
             if (!Triangular.CholeskyUpper(hessian, q, q, out int failIndex, out double failValue))

@@ -1,5 +1,8 @@
 using System;
 using System.IO;
+#if NET
+using System.Runtime.CompilerServices;
+#endif
 using OnlineRidge.Internal;
 using OnlineRidge.Persistence;
 
@@ -18,8 +21,12 @@ namespace OnlineRidge.Standardization
     /// <para><b>Warm-up.</b> Until a sample of positive weight arrives (W = 0) the means, variances and standard deviations are NaN (undefined)
     /// and the co-moments 0. After one such sample the means equal it and the variances are 0 (population variance of one point; no W − 1
     /// divisor is ever used). A component that has been exactly constant since the start has mean exactly that constant and variance exactly 0.
-    /// Samples of weight 0 only forget (W and M are multiplied by β, the means are unchanged).</para>
-    /// <para><b>Cost.</b> d(d+1)/2 + O(d) multiply-adds per update (one more per entry when β &lt; 1), no allocation; storage d(d+1)/2 + 2d doubles.
+    /// Samples of weight 0 only forget (W and M are multiplied by β — M through its scalar factor, so to rounding — the means are unchanged)
+    /// at O(1) cost.</para>
+    /// <para><b>Cost.</b> d(d+1)/2 + O(d·v) multiply-adds per update (v = hardware vector length, 1 in the portable build) and three divisions,
+    /// no allocation; a zero-weight update is O(1). The forgetting costs nothing per entry: M is held as s·M̃ with the scalar s = β-power, so
+    /// an update adds (w·β·W_old/(W·s))·δδᵀ to M̃ and multiplies s by β; about every 2³²-fold decay of s (every ≈ 22 000 updates at β = 0.999)
+    /// M̃ is rescaled by an exact power of two (O(d²), no rounding). Storage about d·⌈d⌉ᵥ + 2d doubles (rows padded to whole vectors).
     /// Merge O(d²).</para>
     /// <para><b>Failures.</b> Wrong length, non-finite values or a negative weight throw <see cref="ArgumentException"/> before any change
     /// (with <see cref="InvalidSamplePolicy.SkipAndCount"/> a non-finite entry or a bad weight is instead skipped and counted in
@@ -32,18 +39,25 @@ namespace OnlineRidge.Standardization
     /// </remarks>
     public sealed class StreamingMoments
     {
+        /// <summary><see cref="BreakdownInfo.None"/>, read once (the hot update path then copies a field instead of calling the property).</summary>
+        private static readonly BreakdownInfo Success = BreakdownInfo.None;
+
         private readonly int d;
         private readonly double beta;
         private readonly double[] mean;
-        private readonly double[] comoment;
+        private readonly ScaledGram comoment;
+        // δ's first d − 1 entries, zero-padded to the co-moment's row length (64-byte aligned from deltaStart); the merge's m_B − m_A.
         private readonly double[] delta;
+        private readonly int deltaStart;
+        private readonly double[] difference;
         private readonly InvalidSamplePolicy invalidSamples;
         private double weightSum;
-        private double trace;
         private long skipped;
 
         private const string SnapshotKind = "StreamingMoments";
-        private const int SnapshotVersion = 1;
+
+        /// <summary>Layout 2 adds the scale of the stored co-moment ("comomentScale"); layout 1 (scale 1) is still read.</summary>
+        private const int SnapshotVersion = 2;
 
         /// <summary>Creates an empty state for vectors of length <paramref name="dimension"/>.</summary>
         /// <param name="dimension">Length d ≥ 1 of every vector.</param>
@@ -64,8 +78,9 @@ namespace OnlineRidge.Standardization
             d = dimension;
             beta = forgettingFactor;
             mean = new double[d];
-            comoment = new double[RecursiveKernels.PackedLength(d)];
-            delta = new double[d];
+            comoment = new ScaledGram(d, beta);
+            delta = GramUpdateKernels.AllocateAligned(comoment.Stride, out deltaStart);
+            difference = new double[d];
         }
 
         /// <summary>Length d of the vectors.</summary>
@@ -89,10 +104,11 @@ namespace OnlineRidge.Standardization
         /// <summary>Total effective weight W = Σ βⁿ⁻ⁱwᵢ (MATH.md §4.1, §9).</summary>
         public double WeightSum => weightSum;
 
-        /// <summary>The means as stored (0 while W = 0), packed co-moment, for the estimators.</summary>
+        /// <summary>The means as stored (0 while W = 0), for the estimators.</summary>
         internal ReadOnlySpan<double> RawMeans => mean;
 
-        internal ReadOnlySpan<double> PackedComoment => comoment;
+        /// <summary>The co-moment M = s·M̃ (read entries through <see cref="ScaledGram.Get"/>), for the estimators.</summary>
+        internal ScaledGram Comoments => comoment;
 
         /// <summary>Adds the vector <paramref name="u"/> with weight 1. O(d²), no allocation.</summary>
         /// <param name="u">Vector of length <see cref="Dimension"/>.</param>
@@ -127,7 +143,7 @@ namespace OnlineRidge.Standardization
             if (invalidSamples == InvalidSamplePolicy.SkipAndCount && !Guard.IsUsableSample(u, 0.0, weight))
             {
                 skipped++;
-                breakdown = BreakdownInfo.None;
+                breakdown = Success;
                 return true;
             }
 
@@ -137,54 +153,52 @@ namespace OnlineRidge.Standardization
         }
 
         /// <summary>The update without argument checks (the caller has validated u and the weight).</summary>
-        internal bool TryUpdateValidated(ReadOnlySpan<double> u, double weight, out BreakdownInfo breakdown)
+        internal bool TryUpdateValidated(ReadOnlySpan<double> u, double weight, out BreakdownInfo breakdown) =>
+            TryUpdateValidated(u.Slice(0, d - 1), u[d - 1], weight, out breakdown);
+
+        /// <summary>The update of u = (head, last) without argument checks (the caller has validated both and the weight).</summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        internal bool TryUpdateValidated(ReadOnlySpan<double> head, double last, double weight, out BreakdownInfo breakdown)
         {
             double oldW = weightSum;
             double newW = (beta * oldW) + weight;
             if (weight == 0.0 || newW == 0.0)
             {
-                // Pure forgetting (or nothing yet): means unchanged.
+                // Pure forgetting (or nothing yet): means unchanged, M scaled through its scalar factor only (O(1)).
                 weightSum = beta * oldW;
-                RecursiveKernels.Scale(comoment, beta);
-                trace *= beta;
+                comoment.Add(0.0, default, 0.0, comoment.ProposedTrace(0.0, 0.0));
                 SampleCount++;
-                breakdown = BreakdownInfo.None;
+                breakdown = Success;
                 return true;
             }
 
-            double norm2 = 0.0;
-            for (int j = 0; j < d; j++)
-            {
-                double dj = u[j] - mean[j];
-                delta[j] = dj;
-                norm2 += dj * dj;
-            }
+            Span<double> centered = delta.AsSpan(deltaStart, comoment.Stride);
+            double deltaLast = last - mean[d - 1];
+            double norm2 = GramUpdateKernels.Center(head, mean, centered) + (deltaLast * deltaLast);
 
             // Weight fraction of the new sample and the co-moment coefficient w·β·W_old/W_new (MATH.md §4.1).
             double r = weight / newW;
             double coefficient = weight * (beta * oldW / newW);
-            double newTrace = (beta * trace) + (coefficient * norm2);
+            double newTrace = comoment.ProposedTrace(coefficient, norm2);
             if (!(newTrace < OverflowLevel) || !Guard.IsFinite(newW))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
                 return false;
             }
 
-            for (int j = 0; j < d; j++)
-            {
-                mean[j] += r * delta[j];
-            }
-
-            RecursiveKernels.ScaleAddRankOne(comoment, d, beta, coefficient, delta);
+            GramUpdateKernels.Axpy(r, centered.Slice(0, d - 1), mean);
+            mean[d - 1] += r * deltaLast;
+            comoment.Add(coefficient, centered, deltaLast, newTrace);
             weightSum = newW;
-            trace = newTrace;
             SampleCount++;
-            breakdown = BreakdownInfo.None;
+            breakdown = Success;
             return true;
         }
 
         /// <summary>Every |entry| of M is at most its largest diagonal entry, hence at most its trace; keeping the trace below this keeps M finite.</summary>
-        private const double OverflowLevel = double.MaxValue / 4.0;
+        private const double OverflowLevel = ScaledGram.OverflowLevel;
 
         /// <summary>Weighted mean of component <paramref name="index"/>; NaN while W = 0. O(1).</summary>
         /// <param name="index">Component, 0 ≤ index &lt; d.</param>
@@ -221,7 +235,7 @@ namespace OnlineRidge.Standardization
         {
             CheckIndex(row, nameof(row));
             CheckIndex(column, nameof(column));
-            return RecursiveKernels.Get(comoment, d, row, column);
+            return comoment.Get(row, column);
         }
 
         /// <summary>Writes M (d×d row-major, exactly symmetric) into <paramref name="destination"/>. O(d²), no allocation.</summary>
@@ -234,7 +248,7 @@ namespace OnlineRidge.Standardization
                 Guard.ThrowLength(nameof(destination), destination.Length, d * d);
             }
 
-            RecursiveKernels.Unpack(comoment, d, destination);
+            comoment.Unpack(destination);
         }
 
         /// <summary>Population variance Mⱼⱼ / W of component <paramref name="index"/> (divisor W, no bias correction); NaN while W = 0. O(1).</summary>
@@ -244,7 +258,7 @@ namespace OnlineRidge.Standardization
         public double Variance(int index)
         {
             CheckIndex(index, nameof(index));
-            return weightSum > 0.0 ? comoment[RecursiveKernels.RowOffset(index, d)] / weightSum : double.NaN;
+            return weightSum > 0.0 ? comoment.Get(index, index) / weightSum : double.NaN;
         }
 
         /// <summary>Population standard deviation σⱼ = √(Mⱼⱼ / W) (MATH.md §4.1); NaN while W = 0, exactly 0 for a component constant since the start. O(1).</summary>
@@ -265,7 +279,7 @@ namespace OnlineRidge.Standardization
 
             for (int j = 0; j < d; j++)
             {
-                destination[j] = weightSum > 0.0 ? Math.Sqrt(comoment[RecursiveKernels.RowOffset(j, d)] / weightSum) : double.NaN;
+                destination[j] = weightSum > 0.0 ? Math.Sqrt(comoment.Get(j, j) / weightSum) : double.NaN;
             }
         }
 
@@ -316,12 +330,12 @@ namespace OnlineRidge.Standardization
             for (int j = 0; j < d; j++)
             {
                 double dj = later.mean[j] - mean[j];
-                delta[j] = dj;
+                difference[j] = dj;
                 norm2 += dj * dj;
             }
 
             double coefficient = w > 0.0 ? wa * (wb / w) : 0.0;
-            double newTrace = (age * trace) + later.trace + (coefficient * norm2);
+            double newTrace = (age * comoment.Trace) + later.comoment.Trace + (coefficient * norm2);
             if (!(newTrace < OverflowLevel) || !Guard.IsFinite(w))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, newTrace, double.NaN);
@@ -339,25 +353,13 @@ namespace OnlineRidge.Standardization
                 double r = wb / w;
                 for (int j = 0; j < d; j++)
                 {
-                    mean[j] += r * delta[j];
+                    mean[j] += r * difference[j];
                 }
             }
 
             // Entry by entry, so that later may be this object.
-            double[] mb = later.comoment;
-            int o = 0;
-            for (int i = 0; i < d; i++)
-            {
-                double ci = coefficient * delta[i];
-                for (int j = i; j < d; j++)
-                {
-                    comoment[o] = (age * comoment[o]) + mb[o] + (ci * delta[j]);
-                    o++;
-                }
-            }
-
+            comoment.MergeFrom(age, later.comoment, coefficient, difference, newTrace);
             weightSum = w;
-            trace = newTrace;
             SampleCount = count;
             skipped += laterSkipped;
             breakdown = BreakdownInfo.None;
@@ -366,8 +368,9 @@ namespace OnlineRidge.Standardization
 
         /// <summary>
         /// Writes the complete state — dimension, forgetting factor, invalid-sample policy, <see cref="SampleCount"/>,
-        /// <see cref="SkippedSampleCount"/>, <see cref="WeightSum"/>, the overflow guard's trace, the means and the packed co-moment — as a
-        /// versioned, checksummed snapshot (kind "StreamingMoments", layout version 1).
+        /// <see cref="SkippedSampleCount"/>, <see cref="WeightSum"/>, the overflow guard's trace, the means and the co-moment as stored (packed
+        /// upper triangle of M̃ and the scale s, M = s·M̃) — as a versioned, checksummed snapshot (kind "StreamingMoments", layout version 2;
+        /// <see cref="ReadSnapshot"/> also reads layout 1, which stored M itself).
         /// </summary>
         /// <param name="destination">Writable stream; written at its position and left open.</param>
         /// <param name="encoding">Binary (default) or indented JSON with the same entries.</param>
@@ -405,7 +408,7 @@ namespace OnlineRidge.Standardization
             double beta = r.GetDouble("forgettingFactor");
             InvalidSamplePolicy policy = SnapshotSupport.Policy(r, "invalidSamples");
             StreamingMoments m = SnapshotSupport.Settings(() => new StreamingMoments(d, beta, policy));
-            m.RestoreStateFrom(r, string.Empty);
+            m.RestoreStateFrom(r, string.Empty, r.KindVersion);
             return m;
         }
 
@@ -415,13 +418,17 @@ namespace OnlineRidge.Standardization
             record.Add(prefix + "sampleCount", SampleCount)
                 .Add(prefix + "skippedSampleCount", skipped)
                 .Add(prefix + "weightSum", weightSum)
-                .Add(prefix + "trace", trace)
+                .Add(prefix + "trace", comoment.Trace)
                 .Add(prefix + "means", mean)
-                .Add(prefix + "comoment", comoment);
+                .Add(prefix + "comoment", comoment.PackedStored())
+                .Add(prefix + "comomentScale", comoment.Scale);
         }
 
-        /// <summary>Validates the state entries under <paramref name="prefix"/> and copies them into this (fresh) object; throws SnapshotFormatException.</summary>
-        internal void RestoreStateFrom(StateRecord record, string prefix)
+        /// <summary>
+        /// Validates the state entries under <paramref name="prefix"/> and copies them into this (fresh) object; throws SnapshotFormatException.
+        /// Layout 1 (<paramref name="record"/>'s kind version, or <paramref name="layoutVersion"/> for an owner's record) has no scale entry: scale 1.
+        /// </summary>
+        internal void RestoreStateFrom(StateRecord record, string prefix, int layoutVersion)
         {
             long count = SnapshotSupport.Count(record, prefix + "sampleCount");
             long skippedCount = SnapshotSupport.Count(record, prefix + "skippedSampleCount");
@@ -433,17 +440,21 @@ namespace OnlineRidge.Standardization
             }
 
             double[] means = SnapshotSupport.FiniteArray(record, prefix + "means", d);
-            double[] packed = SnapshotSupport.FiniteArray(record, prefix + "comoment", comoment.Length);
-            double diagonal = 0.0;
-            for (int j = 0; j < d; j++)
+            double[] packed = SnapshotSupport.FiniteArray(record, prefix + "comoment", RecursiveKernels.PackedLength(d));
+            double scale = 1.0;
+            if (layoutVersion >= 2)
             {
-                double v = packed[RecursiveKernels.RowOffset(j, d)];
-                if (!(v >= 0.0))
+                scale = record.GetDouble(prefix + "comomentScale");
+                if (!comoment.IsValidScale(scale))
                 {
-                    throw SnapshotSupport.Invalid("snapshot entry '{0}comoment' has the negative diagonal entry {1:R} at {2}", prefix, v, j);
+                    throw SnapshotSupport.Invalid("snapshot entry '{0}comomentScale' = {1:R} is outside [2^-32, 1]", prefix, scale);
                 }
+            }
 
-                diagonal += v;
+            double diagonal = ScaledGram.PackedDiagonalSum(packed, d, scale, out int negative);
+            if (negative >= 0)
+            {
+                throw SnapshotSupport.Invalid("snapshot entry '{0}comoment' has the negative diagonal entry {1:R} at {2}", prefix, packed[RecursiveKernels.RowOffset(negative, d)], negative);
             }
 
             // The tracked trace equals tr(M) up to rounding; the overflow guard relies on it bounding M.
@@ -453,9 +464,8 @@ namespace OnlineRidge.Standardization
             }
 
             means.AsSpan().CopyTo(mean);
-            packed.AsSpan().CopyTo(comoment);
+            comoment.Restore(packed, scale, tr);
             weightSum = w;
-            trace = tr;
             SampleCount = count;
             skipped = skippedCount;
         }
