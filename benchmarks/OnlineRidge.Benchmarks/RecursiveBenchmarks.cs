@@ -1,5 +1,6 @@
 using System;
 using System.Collections.Generic;
+using System.Runtime.CompilerServices;
 using BenchmarkDotNet.Attributes;
 using MathNet.Numerics.LinearAlgebra;
 
@@ -63,6 +64,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>Covariance form (symmetric update on the packed triangle). No intercept or standardization in this form.</summary>
         [Benchmark(OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void CovarianceForm()
         {
             double[] x = problem.X;
@@ -77,6 +79,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>Square-root information form, factor of [x y] (no intercept column, no standardization).</summary>
         [Benchmark(OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void SquareRoot()
         {
             double[] x = problem.X;
@@ -91,6 +94,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>Square-root information form with the defaults: intercept column (factor of [1 x y]) and standardization at solve time.</summary>
         [Benchmark(OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void SquareRootWithIntercept()
         {
             double[] x = problem.X;
@@ -105,6 +109,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>Information form, Gram rank-1 update of [x y] (no intercept, no standardization).</summary>
         [Benchmark(OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void InformationForm()
         {
             double[] x = problem.X;
@@ -119,6 +124,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>Information form with the defaults: streaming means and centred co-moments (intercept, standardization at solve time).</summary>
         [Benchmark(OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void InformationFormWithIntercept()
         {
             double[] x = problem.X;
@@ -133,6 +139,7 @@ namespace OnlineRidge.Benchmarks
 
         /// <summary>The plain MathNet covariance-form recursion (see <see cref="MathNetCovarianceRls"/>).</summary>
         [Benchmark(Baseline = true, OperationsPerInvoke = StreamLength)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         public void MathNetCovarianceForm()
         {
             double[] x = problem.X;

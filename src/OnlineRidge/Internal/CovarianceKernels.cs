@@ -38,15 +38,18 @@ namespace OnlineRidge.Internal
 
         /// <summary>
         /// u ← A·x for the symmetric A (order p, stride s): u_i = Σⱼ xⱼ·A_ji accumulated over the rows j, entries 0 … s−1 of u written (the pad
-        /// entries become 0). p·s multiply-adds, no allocation. On the vector path even and odd rows are summed apart and added at the end.
+        /// entries become 0); returns xᵀu. x has length at least s with zeros beyond p. p·s + s multiply-adds, no allocation. On the vector path
+        /// even and odd rows are summed apart and added at the end, and xᵀu is accumulated block by block while u is in registers.
         /// </summary>
-        public static void Multiply(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> x, Span<double> u)
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        public static double Multiply(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> x, Span<double> u)
         {
 #if NET
             if (IsVectorized)
             {
-                MultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(x.Slice(0, p)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
-                return;
+                return MultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
             }
 #endif
             u.Slice(0, s).Clear();
@@ -59,24 +62,34 @@ namespace OnlineRidge.Internal
                     u[i] = (xj * row[i]) + u[i];
                 }
             }
+
+            double q = 0.0;
+            for (int i = 0; i < p; i++)
+            {
+                q += x[i] * u[i];
+            }
+
+            return q;
         }
 
         /// <summary>
         /// A ← A − t·tᵀ and then u ← A·x (the updated A) in one pass over A: each row is downdated, stored and accumulated into u while it
         /// is in registers, so A is read and written once instead of twice. The result is bit for bit that of <see cref="RankOneDowndate"/>
-        /// followed by <see cref="Multiply"/>. 2·p·s multiply-adds, no allocation.
+        /// followed by <see cref="Multiply"/> (the matrix, u and the returned xᵀu). 2·p·s + s multiply-adds, no allocation.
         /// </summary>
-        public static void DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        public static double DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
         {
 #if NET
             if (IsVectorized)
             {
-                DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), ref MemoryMarshal.GetReference(x.Slice(0, p)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
-                return;
+                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
             }
 #endif
             RankOneDowndate(a, s, p, t);
-            Multiply(a, s, p, x, u);
+            return Multiply(a, s, p, x, u);
         }
 
         /// <summary>
@@ -86,6 +99,9 @@ namespace OnlineRidge.Internal
         /// <see cref="RankOneDowndate"/> (the same single-rounding FMA per entry); u and xᵀu are summed in a fixed order of their own.
         /// Vector path only (<see cref="IsVectorized"/>).
         /// </summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public static double ProjectSmall(Span<double> a, int p, bool downdate, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
         {
 #if NET
@@ -124,6 +140,9 @@ namespace OnlineRidge.Internal
         /// A ← A − t·tᵀ over rows 0 … p−1 and all s columns (t has length s, zero beyond p so the pad stays zero). p·s multiply-adds, in place,
         /// no allocation. The caller checks beforehand that the result is acceptable (positive diagonal, no overflow): this kernel cannot fail.
         /// </summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public static void RankOneDowndate(Span<double> a, int s, int p, ReadOnlySpan<double> t)
         {
 #if NET
@@ -148,6 +167,9 @@ namespace OnlineRidge.Internal
         /// The vector part of a covariance-form step, over all s entries (pad included; v and θ have zero pads, which stay zero): t ← r·v,
         /// θ' ← θ + c·v. Returns max tⱼ², or NaN when an entry of t or θ' is not finite. 3s operations, no allocation.
         /// </summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public static double GainStep(ReadOnlySpan<double> v, double r, double c, ReadOnlySpan<double> theta, Span<double> thetaNext, Span<double> t, int s)
         {
             int j = 0;
@@ -195,11 +217,45 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
-        /// Smallest fl(A_ii − tᵢ²) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic) and its index: the new
-        /// diagonal's least entry before the downdate is applied. 2p operations.
+        /// Smallest fl(A_ii − tᵢ²) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic): the new diagonal's
+        /// least entry before the downdate is applied. <paramref name="index"/> is the first index holding it when it is not positive, −1 when
+        /// every entry is positive (then no search is made). The entries of A and t must be finite (the caller's overflow bound ensures it).
+        /// 2p operations, four at a time on the vector path.
         /// </summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         public static double SmallestDowndatedDiagonal(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> t, out int index)
         {
+#if NET
+            if (IsVectorized && p >= 4)
+            {
+                // Four diagonal entries at a time; the common outcome (all positive) needs no search, only a failure looks for the index.
+                ref double ar = ref MemoryMarshal.GetReference(a.Slice(0, ((p - 1) * s) + p));
+                ref double tr = ref MemoryMarshal.GetReference(t.Slice(0, p));
+                Vector256<double> low = Vector256.Create(double.PositiveInfinity);
+                int i = 0;
+                for (; i + 4 <= p; i += 4)
+                {
+                    Vector256<double> ti = Vector256.LoadUnsafe(ref tr, (nuint)i);
+                    Vector256<double> di = Vector256.Create(Unsafe.Add(ref ar, i * (s + 1)), Unsafe.Add(ref ar, (i + 1) * (s + 1)), Unsafe.Add(ref ar, (i + 2) * (s + 1)), Unsafe.Add(ref ar, (i + 3) * (s + 1)));
+                    low = Vector256.Min(low, Fma.MultiplyAdd(-ti, ti, di));
+                }
+
+                double rest = Math.Min(Math.Min(low.GetElement(0), low.GetElement(1)), Math.Min(low.GetElement(2), low.GetElement(3)));
+                for (; i < p; i++)
+                {
+                    double ti = Unsafe.Add(ref tr, i);
+                    rest = Math.Min(rest, MultiplyAdd(-ti, ti, Unsafe.Add(ref ar, i * (s + 1))));
+                }
+
+                if (rest > 0.0 && rest <= double.MaxValue)
+                {
+                    index = -1;
+                    return rest;
+                }
+            }
+#endif
             double smallest = double.PositiveInfinity;
             index = -1;
             for (int i = 0; i < p; i++)
@@ -213,7 +269,56 @@ namespace OnlineRidge.Internal
                 }
             }
 
+            if (smallest > 0.0)
+            {
+                index = -1;
+            }
+
             return smallest;
+        }
+
+        /// <summary>Σ aᵢbᵢ over a's length (b at least as long): four-wide FMA with two accumulators on the vector path, then the scalar tail. n multiply-adds.</summary>
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        public static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+        {
+            int n = a.Length;
+            int i = 0;
+            double sum = 0.0;
+#if NET
+            if (IsVectorized && n >= 4)
+            {
+                ref double ar = ref MemoryMarshal.GetReference(a);
+                ref double br = ref MemoryMarshal.GetReference(b.Slice(0, n));
+                Vector256<double> s0 = Vector256<double>.Zero, s1 = s0;
+                for (; i + 8 <= n; i += 8)
+                {
+                    s0 = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref ar, (nuint)i), Vector256.LoadUnsafe(ref br, (nuint)i), s0);
+                    s1 = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref ar, (nuint)i + 4), Vector256.LoadUnsafe(ref br, (nuint)i + 4), s1);
+                }
+
+                if (i + 4 <= n)
+                {
+                    s0 = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref ar, (nuint)i), Vector256.LoadUnsafe(ref br, (nuint)i), s0);
+                    i += 4;
+                }
+
+                sum = Vector256.Sum(s0 + s1);
+                for (; i < n; i++)
+                {
+                    sum = Math.FusedMultiplyAdd(Unsafe.Add(ref ar, i), Unsafe.Add(ref br, i), sum);
+                }
+
+                return sum;
+            }
+#endif
+            for (; i < n; i++)
+            {
+                sum += a[i] * b[i];
+            }
+
+            return sum;
         }
 
         /// <summary>Largest |A_ij| over the p×p block (pad excluded). p² operations.</summary>
@@ -285,9 +390,13 @@ namespace OnlineRidge.Internal
         public static int Exponent(double x) => (int)((BitConverter.DoubleToInt64Bits(x) >> 52) & 0x7FF) - 1023;
 
 #if NET
-        private static void MultiplyVector(ref double a, int s, int p, ref double x, ref double u)
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        private static double MultiplyVector(ref double a, int s, int p, ref double x, ref double u)
         {
             int c = 0;
+            Vector256<double> q = Vector256<double>.Zero;
 
             // Column blocks of 16, 8 and 4: each block's accumulators stay in registers over all p rows (two sets, for even and odd rows,
             // to halve the FMA latency chain), so A is streamed once and u written once.
@@ -322,10 +431,16 @@ namespace OnlineRidge.Internal
                 }
 
                 ref double uc = ref Unsafe.Add(ref u, c);
-                (e0 + o0).StoreUnsafe(ref uc);
-                (e1 + o1).StoreUnsafe(ref uc, 4);
-                (e2 + o2).StoreUnsafe(ref uc, 8);
-                (e3 + o3).StoreUnsafe(ref uc, 12);
+                ref double xc = ref Unsafe.Add(ref x, c);
+                Vector256<double> u0 = e0 + o0, u1 = e1 + o1, u2 = e2 + o2, u3 = e3 + o3;
+                u0.StoreUnsafe(ref uc);
+                u1.StoreUnsafe(ref uc, 4);
+                u2.StoreUnsafe(ref uc, 8);
+                u3.StoreUnsafe(ref uc, 12);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc), u0, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 4), u1, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 8), u2, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 12), u3, q);
             }
 
             if (c + 8 <= s)
@@ -353,8 +468,12 @@ namespace OnlineRidge.Internal
                 }
 
                 ref double uc = ref Unsafe.Add(ref u, c);
-                (e0 + o0).StoreUnsafe(ref uc);
-                (e1 + o1).StoreUnsafe(ref uc, 4);
+                ref double xc = ref Unsafe.Add(ref x, c);
+                Vector256<double> u0 = e0 + o0, u1 = e1 + o1;
+                u0.StoreUnsafe(ref uc);
+                u1.StoreUnsafe(ref uc, 4);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc), u0, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 4), u1, q);
                 c += 8;
             }
 
@@ -376,13 +495,21 @@ namespace OnlineRidge.Internal
                     e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), Vector256.LoadUnsafe(ref Unsafe.Add(ref a, (j * s) + c)), e0);
                 }
 
-                ((e0 + o0) + (e1 + o1)).StoreUnsafe(ref Unsafe.Add(ref u, c));
+                Vector256<double> u0 = (e0 + o0) + (e1 + o1);
+                u0.StoreUnsafe(ref Unsafe.Add(ref u, c));
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref Unsafe.Add(ref x, c)), u0, q);
             }
+
+            return Vector256.Sum(q);
         }
 
-        private static void DowndateMultiplyVector(ref double a, int s, int p, ref double t, ref double x, ref double u)
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
+        private static double DowndateMultiplyVector(ref double a, int s, int p, ref double t, ref double x, ref double u)
         {
             int c = 0;
+            Vector256<double> q = Vector256<double>.Zero;
 
             // As MultiplyVector (same blocks, the same even/odd accumulation order, so the same bits), with each row block downdated first.
             for (; c + 16 <= s; c += 16)
@@ -445,10 +572,16 @@ namespace OnlineRidge.Internal
                 }
 
                 ref double uc = ref Unsafe.Add(ref u, c);
-                (e0 + o0).StoreUnsafe(ref uc);
-                (e1 + o1).StoreUnsafe(ref uc, 4);
-                (e2 + o2).StoreUnsafe(ref uc, 8);
-                (e3 + o3).StoreUnsafe(ref uc, 12);
+                ref double xc = ref Unsafe.Add(ref x, c);
+                Vector256<double> u0 = e0 + o0, u1 = e1 + o1, u2 = e2 + o2, u3 = e3 + o3;
+                u0.StoreUnsafe(ref uc);
+                u1.StoreUnsafe(ref uc, 4);
+                u2.StoreUnsafe(ref uc, 8);
+                u3.StoreUnsafe(ref uc, 12);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc), u0, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 4), u1, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 8), u2, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 12), u3, q);
             }
 
             if (c + 8 <= s)
@@ -490,8 +623,12 @@ namespace OnlineRidge.Internal
                 }
 
                 ref double uc = ref Unsafe.Add(ref u, c);
-                (e0 + o0).StoreUnsafe(ref uc);
-                (e1 + o1).StoreUnsafe(ref uc, 4);
+                ref double xc = ref Unsafe.Add(ref x, c);
+                Vector256<double> u0 = e0 + o0, u1 = e1 + o1;
+                u0.StoreUnsafe(ref uc);
+                u1.StoreUnsafe(ref uc, 4);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc), u0, q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 4), u1, q);
                 c += 8;
             }
 
@@ -528,10 +665,17 @@ namespace OnlineRidge.Internal
                     e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
                 }
 
-                ((e0 + o0) + (e1 + o1)).StoreUnsafe(ref Unsafe.Add(ref u, c));
+                Vector256<double> u0 = (e0 + o0) + (e1 + o1);
+                u0.StoreUnsafe(ref Unsafe.Add(ref u, c));
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref Unsafe.Add(ref x, c)), u0, q);
             }
+
+            return Vector256.Sum(q);
         }
 
+#if NET
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+#endif
         private static void DowndateVector(ref double a, int s, int p, ref double t)
         {
             int c = 0;

@@ -103,6 +103,7 @@ namespace OnlineRidge
         // entries on the fly with the kernel's own arithmetic, so what they see is bit for bit the applied matrix.
         private double[] pending;
         private bool hasPending;
+        private readonly double[] paddedX;
         private double[] theta;
         private double[] thetaNext;
         private double minimumCost;
@@ -199,6 +200,7 @@ namespace OnlineRidge
             gain = new double[p];
             root = new double[stride];
             pending = new double[stride];
+            paddedX = new double[stride];
             if (prior is not null)
             {
                 for (int j = 0; j < p; j++)
@@ -304,6 +306,9 @@ namespace OnlineRidge
         /// non-finite weight (under <see cref="InvalidSamplePolicy.SkipAndCount"/> those samples are skipped and counted).</exception>
         /// <exception cref="RidgeBreakdownException">P lost positive definiteness or overflowed; the estimator is unchanged.</exception>
         /// <remarks>O(p²), no allocation. See the type remarks.</remarks>
+#if NET
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+#endif
         public void Update(ReadOnlySpan<double> x, double y, double weight)
         {
             if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
@@ -322,6 +327,9 @@ namespace OnlineRidge
         /// <see cref="SkippedSampleCount"/> changes); false leaves the estimator exactly as it was.</returns>
         /// <exception cref="ArgumentException">Caller mistakes, as for Update (never reported through the return value).</exception>
         /// <remarks>O(p²), no allocation (also when skipping).</remarks>
+#if NET
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+#endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
@@ -343,10 +351,14 @@ namespace OnlineRidge
         }
 
         /// <summary>The update proper, on validated input (kept apart so that the checks and the skip path stay small).</summary>
+#if NET
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining | System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+#else
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining)]
+#endif
         private bool Step(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
-            double e = y - RecursiveKernels.Dot(x, theta);
+            double e = y - CovarianceKernels.Dot(x, theta);
             if (!Guard.IsFinite(e))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, e, double.NaN);
@@ -394,8 +406,8 @@ namespace OnlineRidge
             }
             else
             {
-                CovarianceKernels.Multiply(covariance, stride, p, x, v);
-                double s = RecursiveKernels.Dot(x, v);
+                x.CopyTo(paddedX);
+                double s = CovarianceKernels.Multiply(covariance, stride, p, paddedX, v);
                 double d = factor + (weight * s);
                 if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
                 {
@@ -444,6 +456,9 @@ namespace OnlineRidge
         /// entry a second time for the division by β. Every check (s ≥ 0, d &gt; 0, each new diagonal entry positive, no entry of P beyond
         /// 2^1020, finite θ and J*) is made before anything is written, so a refused update changes nothing.
         /// </summary>
+#if NET
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+#endif
         private bool InPlaceStep(ReadOnlySpan<double> x, double weight, double e, double factor, double logFactor, out BreakdownInfo breakdown)
         {
             double sigma = covarianceScale;
@@ -472,16 +487,11 @@ namespace OnlineRidge
             }
             else
             {
-                if (hasPending)
-                {
-                    CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, x, v);
-                }
-                else
-                {
-                    CovarianceKernels.Multiply(covariance, stride, p, x, v);
-                }
-
-                projection = RecursiveKernels.Dot(x, v);
+                // The kernels read x with its zero pad.
+                x.CopyTo(paddedX);
+                projection = hasPending
+                    ? CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, paddedX, v)
+                    : CovarianceKernels.Multiply(covariance, stride, p, paddedX, v);
             }
 
             hasPending = false;
@@ -605,8 +615,8 @@ namespace OnlineRidge
         /// <summary>v = P·x and s = xᵀv with the guards of MATH.md §2.2 item 3 (s ≥ 0, finite); false with the breakdown otherwise.</summary>
         private bool Project(ReadOnlySpan<double> x, double weight, out double s, out BreakdownInfo breakdown)
         {
-            CovarianceKernels.Multiply(covariance, stride, p, x, v);
-            s = RecursiveKernels.Dot(x, v);
+            x.CopyTo(paddedX);
+            s = CovarianceKernels.Multiply(covariance, stride, p, paddedX, v);
             double ws = weight * s;
             if (!(s >= 0.0) || double.IsInfinity(ws))
             {
