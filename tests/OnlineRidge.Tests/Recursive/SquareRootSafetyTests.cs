@@ -202,6 +202,45 @@ namespace OnlineRidge.Tests.Recursive
         }
 
         /// <summary>
+        /// Theorem (TryUpdate docs: a zero weight only forgets; the overflow guard counts only weighted data): a zero-weight sample whose
+        /// finite entries have overflowing squares (x = 10²⁰⁰) is accepted under either policy and changes the state exactly as a
+        /// zero-weight sample of ordinary entries does; the same entries with NaN in y still throw (or are skipped), naming y.
+        /// </summary>
+        [Theory]
+        [InlineData(InvalidSamplePolicy.Throw)]
+        [InlineData(InvalidSamplePolicy.SkipAndCount)]
+        public void ZeroWeightSampleWithOverflowingSquaresOnlyForgets(InvalidSamplePolicy policy)
+        {
+            var settings = new SquareRootSettings { ForgettingFactor = 0.95, Penalty = 0.1, InvalidSamples = policy };
+            var est = new SquareRootEstimator(3, settings);
+            var twin = new SquareRootEstimator(3, settings);
+            var rng = new Random(12);
+            for (int i = 0; i < 20; i++)
+            {
+                double[] x = { rng.NextDouble(), rng.NextDouble(), rng.NextDouble() };
+                double y = rng.NextDouble();
+                est.Update(x, y);
+                twin.Update(x, y);
+            }
+
+            double[] huge = { 1.0, 1e200, -1e250 };
+            Assert.True(est.TryUpdate(huge, 1e300, 0.0, out BreakdownInfo bd));
+            Assert.True(bd.IsNone);
+            twin.Update(new[] { 1.0, 2.0, 3.0 }, 4.0, 0.0);
+            SnapshotBytes.AssertSame(Bytes(twin), Bytes(est), "zero-weight sample with overflowing squares");
+
+            if (policy == InvalidSamplePolicy.Throw)
+            {
+                AssertUnchanged(est, "y", () => est.Update(huge, double.NaN, 0.0), "NaN y with huge x");
+            }
+            else
+            {
+                est.Update(huge, double.NaN, 0.0);
+                Assert.Equal(1, est.SkippedSampleCount);
+            }
+        }
+
+        /// <summary>
         /// Theorem (WriteSnapshot/ReadSnapshot docs): for random states (every setting, both policies, random prefix of a random stream),
         /// restore(write(e)) written again gives the same bytes, in both encodings, and its parameters, breakdown status, counts and factor
         /// equal the original's bit for bit.
