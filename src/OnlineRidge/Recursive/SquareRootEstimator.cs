@@ -332,7 +332,7 @@ namespace OnlineRidge
                 }
 
                 u[c - 1] = sw * y;
-                GivensKernels.ScaleAndRotateIn(t, c, q, u, 0);
+                GivensKernels.RotateIn(t, c, q, u);
                 discountedCount = (qq * discountedCount) + 1.0;
             }
             else

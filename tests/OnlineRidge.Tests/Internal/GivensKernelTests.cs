@@ -96,6 +96,33 @@ namespace OnlineRidge.Tests.Internal
             }
         }
 
+        /// <summary>
+        /// Column j is the first whose sum of squares underflows (rows and columns from j on near 2⁻⁶⁰⁰, the rest normal), for every j:
+        /// the written-out chains of the small orders and the loop hand over to the careful path at each column, with the state of the
+        /// columns before it.
+        /// </summary>
+        [Theory]
+        [MemberData(nameof(Orders))]
+        public void ScaleAndRotateIn_hands_over_to_the_careful_path_at_every_column(int c)
+        {
+            for (int j = 0; j < c; j++)
+            {
+                var random = new Random((50 * c) + j);
+                double[] t = RandomTriangle(random, c, 0);
+                double[] u = RandomRow(random, c, 0, 0);
+                for (int k = j; k < c; k++)
+                {
+                    u[k] = Math.ScaleB(u[k], -600);
+                    for (int i = 0; i <= k; i++)
+                    {
+                        t[(i * c) + k] = Math.ScaleB(t[(i * c) + k], -600);
+                    }
+                }
+
+                CheckAgainstReference(t, u, c, Math.Sqrt(0.99), 0, $"c={c} careful from column {j}");
+            }
+        }
+
         [Fact]
         public void ScaleAndRotateIn_only_scales_rows_of_zero_entries_exactly()
         {
@@ -162,19 +189,31 @@ namespace OnlineRidge.Tests.Internal
         }
 
         /// <summary>
-        /// Runs the kernel and the reference on copies and compares entrywise against the norm of each column of [q·T; u] (rotations keep it):
+        /// Runs the kernel (both entry points from column 0) and the reference on copies and compares entrywise against the norm of each column of [q·T; u] (rotations keep it):
         /// |T − T_ref| ≤ 8(c + 1)ε·‖column‖; u must end exactly 0 from <paramref name="start"/> on, the diagonal ≥ 0 and the strict lower
         /// triangle exactly 0.
         /// </summary>
         private static void CheckAgainstReference(double[] t, double[] u, int c, double q, int start, string label)
         {
             double[] columnNorms = ColumnNorms(t, u, c, q);
-            double[] tk = (double[])t.Clone();
-            double[] uk = (double[])u.Clone();
             double[] tr = (double[])t.Clone();
             double[] ur = (double[])u.Clone();
-            GivensKernels.ScaleAndRotateIn(tk, c, q, uk, start);
             ReferenceRotateIn(tr, c, q, ur, start);
+            Check((double[])t.Clone(), (double[])u.Clone(), (tk, uk) => GivensKernels.ScaleAndRotateIn(tk, c, q, uk, start), label);
+            if (start == 0)
+            {
+                Check((double[])t.Clone(), (double[])u.Clone(), (tk, uk) => GivensKernels.RotateIn(tk, c, q, uk), label + " (update entry)");
+            }
+
+            void Check(double[] tk, double[] uk, Action<double[], double[]> kernel, string name)
+            {
+                kernel(tk, uk);
+                CompareWithReference(tk, uk, tr, columnNorms, c, name);
+            }
+        }
+
+        private static void CompareWithReference(double[] tk, double[] uk, double[] tr, double[] columnNorms, int c, string label)
+        {
             for (int i = 0; i < c; i++)
             {
                 for (int k = 0; k < c; k++)
