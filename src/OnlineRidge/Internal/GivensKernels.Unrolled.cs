@@ -8,8 +8,10 @@ namespace OnlineRidge.Internal
     /// The rotation chain of <see cref="ScaleAndRotateIn"/> for small orders, one method per order c = 2..8 with u in locals and
     /// every index a constant: no loops, no tails, and about half the instructions of the general loop, which matters because at small
     /// orders the updates are bound by how many of them the processor can keep in flight. Same rotations and roundings as the textbook
-    /// form (γ = a/r, σ = t/r, every entry of the row from γ and σ, r = √(a² + t²)); a column with a zero entry in u or a sum of squares
-    /// outside [10⁻²⁹⁰, 10²⁹⁰] hands the rest of the chain to <see cref="RotateInCareful"/> before anything of that column is written.
+    /// form (γ = a/r, σ = t/r, every entry of the row from γ and σ, r = √(a² + t²)). A zero entry of u needs no branch: then r = √fl(a²)
+    /// = a exactly (binary floating point), γ = 1 and σ = 0, which scales the row by q exactly as skipping the column does. A column whose
+    /// sum of squares lies outside [10⁻²⁹⁰, 10²⁹⁰] (also a = t = 0) hands the rest of the chain to <see cref="RotateInCareful"/> before
+    /// anything of that column is written.
     /// </summary>
     internal static partial class GivensKernels
     {
@@ -83,7 +85,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -101,7 +103,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 3);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -140,7 +142,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -159,7 +161,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 4);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -177,7 +179,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 8);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -219,7 +221,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -239,7 +241,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 5);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -258,7 +260,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 10);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -276,7 +278,7 @@ namespace OnlineRidge.Internal
             // Column 3.
             a = q * Unsafe.Add(ref t, 15);
             s = MultiplyAdd(u3, u3, a * a);
-            if (!((u3 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 3;
                 goto Careful;
@@ -321,7 +323,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -342,7 +344,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 6);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -362,7 +364,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 12);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -381,7 +383,7 @@ namespace OnlineRidge.Internal
             // Column 3.
             a = q * Unsafe.Add(ref t, 18);
             s = MultiplyAdd(u3, u3, a * a);
-            if (!((u3 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 3;
                 goto Careful;
@@ -399,7 +401,7 @@ namespace OnlineRidge.Internal
             // Column 4.
             a = q * Unsafe.Add(ref t, 24);
             s = MultiplyAdd(u4, u4, a * a);
-            if (!((u4 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 4;
                 goto Careful;
@@ -447,7 +449,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -469,7 +471,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 7);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -490,7 +492,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 14);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -510,7 +512,7 @@ namespace OnlineRidge.Internal
             // Column 3.
             a = q * Unsafe.Add(ref t, 21);
             s = MultiplyAdd(u3, u3, a * a);
-            if (!((u3 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 3;
                 goto Careful;
@@ -529,7 +531,7 @@ namespace OnlineRidge.Internal
             // Column 4.
             a = q * Unsafe.Add(ref t, 28);
             s = MultiplyAdd(u4, u4, a * a);
-            if (!((u4 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 4;
                 goto Careful;
@@ -547,7 +549,7 @@ namespace OnlineRidge.Internal
             // Column 5.
             a = q * Unsafe.Add(ref t, 35);
             s = MultiplyAdd(u5, u5, a * a);
-            if (!((u5 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 5;
                 goto Careful;
@@ -598,7 +600,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -621,7 +623,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 8);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -643,7 +645,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 16);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -664,7 +666,7 @@ namespace OnlineRidge.Internal
             // Column 3.
             a = q * Unsafe.Add(ref t, 24);
             s = MultiplyAdd(u3, u3, a * a);
-            if (!((u3 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 3;
                 goto Careful;
@@ -684,7 +686,7 @@ namespace OnlineRidge.Internal
             // Column 4.
             a = q * Unsafe.Add(ref t, 32);
             s = MultiplyAdd(u4, u4, a * a);
-            if (!((u4 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 4;
                 goto Careful;
@@ -703,7 +705,7 @@ namespace OnlineRidge.Internal
             // Column 5.
             a = q * Unsafe.Add(ref t, 40);
             s = MultiplyAdd(u5, u5, a * a);
-            if (!((u5 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 5;
                 goto Careful;
@@ -721,7 +723,7 @@ namespace OnlineRidge.Internal
             // Column 6.
             a = q * Unsafe.Add(ref t, 48);
             s = MultiplyAdd(u6, u6, a * a);
-            if (!((u6 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 6;
                 goto Careful;
@@ -775,7 +777,7 @@ namespace OnlineRidge.Internal
             // Column 0.
             a = q * Unsafe.Add(ref t, 0);
             s = MultiplyAdd(u0, u0, a * a);
-            if (!((u0 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 0;
                 goto Careful;
@@ -799,7 +801,7 @@ namespace OnlineRidge.Internal
             // Column 1.
             a = q * Unsafe.Add(ref t, 9);
             s = MultiplyAdd(u1, u1, a * a);
-            if (!((u1 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 1;
                 goto Careful;
@@ -822,7 +824,7 @@ namespace OnlineRidge.Internal
             // Column 2.
             a = q * Unsafe.Add(ref t, 18);
             s = MultiplyAdd(u2, u2, a * a);
-            if (!((u2 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 2;
                 goto Careful;
@@ -844,7 +846,7 @@ namespace OnlineRidge.Internal
             // Column 3.
             a = q * Unsafe.Add(ref t, 27);
             s = MultiplyAdd(u3, u3, a * a);
-            if (!((u3 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 3;
                 goto Careful;
@@ -865,7 +867,7 @@ namespace OnlineRidge.Internal
             // Column 4.
             a = q * Unsafe.Add(ref t, 36);
             s = MultiplyAdd(u4, u4, a * a);
-            if (!((u4 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 4;
                 goto Careful;
@@ -885,7 +887,7 @@ namespace OnlineRidge.Internal
             // Column 5.
             a = q * Unsafe.Add(ref t, 45);
             s = MultiplyAdd(u5, u5, a * a);
-            if (!((u5 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 5;
                 goto Careful;
@@ -904,7 +906,7 @@ namespace OnlineRidge.Internal
             // Column 6.
             a = q * Unsafe.Add(ref t, 54);
             s = MultiplyAdd(u6, u6, a * a);
-            if (!((u6 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 6;
                 goto Careful;
@@ -922,7 +924,7 @@ namespace OnlineRidge.Internal
             // Column 7.
             a = q * Unsafe.Add(ref t, 63);
             s = MultiplyAdd(u7, u7, a * a);
-            if (!((u7 != 0.0) & (s >= SafeSquareLow) & (s <= SafeSquareHigh)))
+            if (!InSafeRange(s))
             {
                 column = 7;
                 goto Careful;

@@ -41,11 +41,18 @@ namespace OnlineRidge.Internal
     internal static partial class GivensKernels
     {
         // Range of a² + t² in which √(a² + t²) is accurate to rounding (see the remarks).
-        private const double SafeSquareLow = 1e-290;
-        private const double SafeSquareHigh = 1e290;
+        internal const double SafeSquareLow = 1e-290;
+        internal const double SafeSquareHigh = 1e290;
+
+        // Their bit patterns: the bits of a non-negative double order as its value, so one unsigned comparison tests the range (NaN and
+        // negative values fall outside). Checked against the constants above by the tests.
+        internal const long SafeSquareLowBits = 0x03B8F2B061AEA072;
+        internal const long SafeSquareHighBits = 0x7C2485CE9E7A065F;
 
         // |a·u| + |t·qT| at least this: an underflowed product's absolute error (≤ 2⁻¹⁰⁷⁴ each) is below ε/2 times the sum.
-        private const double SafeProductLow = 1e-307;
+        internal const double SafeProductLow = 1e-307;
+        internal const long SafeProductLowBits = 0x0031FA182C40C60D;
+        internal const long MaxValueBits = 0x7FEFFFFFFFFFFFFF;
 
         /// <summary>
         /// T ← rotations of [q·T; u] back to triangular form; u is overwritten (annihilated: every entry from <paramref name="start"/> on
@@ -216,7 +223,7 @@ namespace OnlineRidge.Internal
                 double s = MultiplyAdd(tj, tj, a * a);
                 if (len == 0)
                 {
-                    if (!(s >= SafeSquareLow && s <= SafeSquareHigh))
+                    if (!InSafeRange(s))
                     {
                         break;
                     }
@@ -233,7 +240,7 @@ namespace OnlineRidge.Internal
                 double p1 = a * u1;
                 double p2 = tj * qt1;
                 double size = Math.Abs(p1) + Math.Abs(p2);
-                if (!((s >= SafeSquareLow) & (s <= SafeSquareHigh) & (size >= SafeProductLow) & (size <= double.MaxValue)))
+                if (!(InSafeRange(s) & InRange(size, SafeProductLowBits, MaxValueBits)))
                 {
                     break;
                 }
@@ -368,6 +375,18 @@ namespace OnlineRidge.Internal
                 Unsafe.Add(ref v, k) *= s;
             }
         }
+
+        /// <summary>
+        /// True when s lies in [10⁻²⁹⁰, 10²⁹⁰], where √s of a sum of two squares is accurate to rounding; false for NaN and negative s. One
+        /// integer comparison on the bit pattern, so the test costs no floating-point instruction besides moving s.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static bool InSafeRange(double s) => InRange(s, SafeSquareLowBits, SafeSquareHighBits);
+
+        /// <summary>True when v lies between the non-negative doubles whose bit patterns are <paramref name="lowBits"/> ≤ <paramref name="highBits"/>.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static bool InRange(double v, long lowBits, long highBits) =>
+            (ulong)(BitConverter.DoubleToInt64Bits(v) - lowBits) <= (ulong)(highBits - lowBits);
 
         /// <summary>a·b + c, fused (one rounding) where the hardware has a fused multiply-add, else with two roundings.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]

@@ -141,6 +141,45 @@ namespace OnlineRidge.Tests.Internal
             Assert.All(u, v => Assert.Equal(0.0, v));
         }
 
+        /// <summary>
+        /// A zero entry of u leaves its column's row scaled by q bit for bit (the written-out chains rotate it with γ = 1, σ = 0 instead
+        /// of branching; the loop skips it), for every order and for a zero in the first and in the last column.
+        /// </summary>
+        [Theory]
+        [MemberData(nameof(Orders))]
+        public void A_zero_pivot_scales_its_row_exactly(int c)
+        {
+            double q = Math.Sqrt(0.995);
+            var random = new Random(900 + c);
+            double[] t = RandomTriangle(random, c, 0);
+            double[] u = RandomRow(random, c, 0, 0);
+            u[0] = 0.0;
+            double[] expected = (double[])t.Clone();
+            GivensKernels.RotateIn(t, c, q, u);
+            for (int k = 0; k < c; k++)
+            {
+                Assert.Equal(q * expected[k], t[k]);
+            }
+
+            // An all-zero row: every column has a zero pivot.
+            double[] t2 = RandomTriangle(random, c, 0);
+            double[] before = (double[])t2.Clone();
+            GivensKernels.RotateIn(t2, c, q, new double[c]);
+            for (int i = 0; i < c * c; i++)
+            {
+                Assert.Equal(q * before[i], t2[i]);
+            }
+        }
+
+        [Fact]
+        public void The_range_tests_use_the_bit_patterns_of_their_bounds()
+        {
+            Assert.Equal(GivensKernels.SafeSquareLowBits, BitConverter.DoubleToInt64Bits(GivensKernels.SafeSquareLow));
+            Assert.Equal(GivensKernels.SafeSquareHighBits, BitConverter.DoubleToInt64Bits(GivensKernels.SafeSquareHigh));
+            Assert.Equal(GivensKernels.SafeProductLowBits, BitConverter.DoubleToInt64Bits(GivensKernels.SafeProductLow));
+            Assert.Equal(GivensKernels.MaxValueBits, BitConverter.DoubleToInt64Bits(double.MaxValue));
+        }
+
         [Fact]
         public void ScaleAndRotateIn_rejects_spans_that_do_not_fit()
         {
