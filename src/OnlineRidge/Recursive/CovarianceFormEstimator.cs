@@ -507,7 +507,8 @@ namespace OnlineRidge
             double gs = g * sigma;
             // t = √(g·σ)·u and θ' = θ + (g·σ·e)·u; the pad entries of u are 0 (pad columns of P̃ are 0), so the pads of t and θ stay 0.
             double largest = CovarianceKernels.GainStep(v, Math.Sqrt(gs), gs * e, theta, thetaNext, root, stride);
-            double newCost = factor * (minimumCost + (weight * e * e / d));
+            // w·e²/d = g·e²: no second division on the update path.
+            double newCost = factor * (minimumCost + (g * e * e));
             if (!Guard.IsFinite(largest) || !Guard.IsFinite(newCost))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
