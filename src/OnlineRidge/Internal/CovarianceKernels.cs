@@ -12,8 +12,8 @@ namespace OnlineRidge.Internal
     /// Kernels of the covariance form on a dense symmetric matrix of order p held row-major with a padded row stride
     /// (<see cref="Stride"/>: p rounded up to the vector width of 4 doubles when the vector path runs, p otherwise). Both triangles are
     /// stored; the pad columns hold zeros. Every row is whole vectors, so neither kernel has a scalar tail, and the rank-one downdate
-    /// A ← A − t·tᵀ keeps A bitwise symmetric by construction: entry (i, j) becomes fl(A_ij − t_i·t_j) (one rounding with FMA, two without)
-    /// and the product t_i·t_j is the same number as t_j·t_i. No allocation; lengths are the caller's responsibility (checked in debug builds
+    /// A ← A − c·u·uᵀ keeps A bitwise symmetric by construction: entry (i, j) becomes fl(A_ij − c·fl(u_i·u_j)) (the outer step one rounding
+    /// with FMA, two without), and fl(u_i·u_j) is the same number as fl(u_j·u_i). No square root is needed for the symmetry. No allocation; lengths are the caller's responsibility (checked in debug builds
     /// through the span accessors of the scalar path).
     /// </summary>
     internal static class CovarianceKernels
@@ -73,36 +73,36 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
-        /// A ← A − t·tᵀ and then u ← A·x (the updated A) in one pass over A: each row is downdated, stored and accumulated into u while it
+        /// A ← A − c·t·tᵀ (the entries as <see cref="RankOneDowndate"/>) and then u ← A·x (the updated A) in one pass over A: each row is downdated, stored and accumulated into u while it
         /// is in registers, so A is read and written once instead of twice. The result is bit for bit that of <see cref="RankOneDowndate"/>
         /// followed by <see cref="Multiply"/> (the matrix, u and the returned xᵀu). 2·p·s + s multiply-adds, no allocation.
         /// </summary>
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static double DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
+        public static double DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u)
         {
 #if NET
             if (IsVectorized)
             {
-                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
+                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
             }
 #endif
-            RankOneDowndate(a, s, p, t);
+            RankOneDowndate(a, s, p, t, c);
             return Multiply(a, s, p, x, u);
         }
 
         /// <summary>
         /// The fixed-size projection for order p ≤ 4 (stride 4, A allocated with 4 rows whose rows p … 3 are zero): when
-        /// <paramref name="downdate"/> is set, A ← A − t·tᵀ first (every row; t's pad is zero so the zero rows stay zero); then u ← A·x and
+        /// <paramref name="downdate"/> is set, A ← A − c·t·tᵀ first (every row; t's pad is zero so the zero rows stay zero); then u ← A·x and
         /// the return value is xᵀu. Everything stays in four registers, with no loop and no second pass over u. Bit for bit the downdate of
-        /// <see cref="RankOneDowndate"/> (the same single-rounding FMA per entry); u and xᵀu are summed in a fixed order of their own.
+        /// <see cref="RankOneDowndate"/> (the same product and FMA per entry); u and xᵀu are summed in a fixed order of their own.
         /// Vector path only (<see cref="IsVectorized"/>).
         /// </summary>
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static double ProjectSmall(Span<double> a, int p, bool downdate, ReadOnlySpan<double> t, ReadOnlySpan<double> x, Span<double> u)
+        public static double ProjectSmall(Span<double> a, int p, bool downdate, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u)
         {
 #if NET
             ref double ar = ref MemoryMarshal.GetReference(a.Slice(0, 16));
@@ -113,11 +113,11 @@ namespace OnlineRidge.Internal
             if (downdate)
             {
                 Vector256<double> tv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(t.Slice(0, 4)));
-                Vector256<double> m = -tv;
-                r0 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(0)), tv, r0);
-                r1 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(1)), tv, r1);
-                r2 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(2)), tv, r2);
-                r3 = Fma.MultiplyAdd(Vector256.Create(m.GetElement(3)), tv, r3);
+                Vector256<double> nc = Vector256.Create(-c);
+                r0 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(0)) * tv, r0);
+                r1 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(1)) * tv, r1);
+                r2 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(2)) * tv, r2);
+                r3 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(3)) * tv, r3);
                 r0.StoreUnsafe(ref ar);
                 r1.StoreUnsafe(ref ar, 4);
                 r2.StoreUnsafe(ref ar, 8);
@@ -137,40 +137,41 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
-        /// A ← A − t·tᵀ over rows 0 … p−1 and all s columns (t has length s, zero beyond p so the pad stays zero). p·s multiply-adds, in place,
+        /// A ← A − c·t·tᵀ over rows 0 … p−1 and all s columns, entry by entry fl(A_ij − c·fl(t_i·t_j)) (<see cref="MultiplyAdd"/> of −c,
+        /// fl(t_i·t_j) and A_ij), which is bitwise symmetric; t has length s, zero beyond p, so the pad stays zero. 2·p·s operations, in place,
         /// no allocation. The caller checks beforehand that the result is acceptable (positive diagonal, no overflow): this kernel cannot fail.
         /// </summary>
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static void RankOneDowndate(Span<double> a, int s, int p, ReadOnlySpan<double> t)
+        public static void RankOneDowndate(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c)
         {
 #if NET
             if (IsVectorized)
             {
-                DowndateVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)));
+                DowndateVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c);
                 return;
             }
 #endif
             for (int i = 0; i < p; i++)
             {
-                double ti = -t[i];
+                double ti = t[i];
                 Span<double> row = a.Slice(i * s, s);
                 for (int j = 0; j < s; j++)
                 {
-                    row[j] = (ti * t[j]) + row[j];
+                    row[j] = (-c * (ti * t[j])) + row[j];
                 }
             }
         }
 
         /// <summary>
-        /// The vector part of a covariance-form step, over all s entries (pad included; v and θ have zero pads, which stay zero): t ← r·v,
-        /// θ' ← θ + c·v. Returns max tⱼ², or NaN when an entry of t or θ' is not finite. 3s operations, no allocation.
+        /// The vector part of a covariance-form step, over all s entries (pad included; v and θ have zero pads, which stay zero): θ' ← θ + c·v.
+        /// Returns max vⱼ², or NaN when an entry of v or θ' is not finite. 3s operations, no allocation.
         /// </summary>
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static double GainStep(ReadOnlySpan<double> v, double r, double c, ReadOnlySpan<double> theta, Span<double> thetaNext, Span<double> t, int s)
+        public static double GainStep(ReadOnlySpan<double> v, double c, ReadOnlySpan<double> theta, Span<double> thetaNext, int s)
         {
             int j = 0;
             double largest = 0.0;
@@ -181,20 +182,17 @@ namespace OnlineRidge.Internal
                 ref double vr = ref MemoryMarshal.GetReference(v.Slice(0, s));
                 ref double th = ref MemoryMarshal.GetReference(theta.Slice(0, s));
                 ref double tn = ref MemoryMarshal.GetReference(thetaNext.Slice(0, s));
-                ref double tr = ref MemoryMarshal.GetReference(t.Slice(0, s));
-                Vector256<double> vrr = Vector256.Create(r), vc = Vector256.Create(c);
+                Vector256<double> vc = Vector256.Create(c);
                 Vector256<double> big = Vector256<double>.Zero, check = Vector256<double>.Zero;
                 for (; j < s; j += 4)
                 {
                     Vector256<double> vj = Vector256.LoadUnsafe(ref vr, (nuint)j);
-                    Vector256<double> tj = vrr * vj;
                     Vector256<double> theta2 = Fma.MultiplyAdd(vc, vj, Vector256.LoadUnsafe(ref th, (nuint)j));
-                    tj.StoreUnsafe(ref tr, (nuint)j);
                     theta2.StoreUnsafe(ref tn, (nuint)j);
-                    big = Vector256.Max(big, tj * tj);
+                    big = Vector256.Max(big, vj * vj);
 
                     // x − x is 0 for finite x and NaN for ±∞ and NaN.
-                    check += (tj - tj) + (theta2 - theta2);
+                    check += (vj - vj) + (theta2 - theta2);
                 }
 
                 largest = Math.Max(Math.Max(big.GetElement(0), big.GetElement(1)), Math.Max(big.GetElement(2), big.GetElement(3)));
@@ -205,19 +203,17 @@ namespace OnlineRidge.Internal
             for (; j < s; j++)
             {
                 double vj = v[j];
-                double tj = r * vj;
                 double theta2 = (c * vj) + theta[j];
-                t[j] = tj;
                 thetaNext[j] = theta2;
-                largest = Math.Max(largest, tj * tj);
-                probe += (tj - tj) + (theta2 - theta2);
+                largest = Math.Max(largest, vj * vj);
+                probe += (vj - vj) + (theta2 - theta2);
             }
 
             return probe == 0.0 ? largest : double.NaN;
         }
 
         /// <summary>
-        /// Smallest fl(A_ii − tᵢ²) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic): the new diagonal's
+        /// Smallest fl(A_ii − c·fl(tᵢ²)) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic): the new diagonal's
         /// least entry before the downdate is applied. <paramref name="index"/> is the first index holding it when it is not positive, −1 when
         /// every entry is positive (then no search is made). The entries of A and t must be finite (the caller's overflow bound ensures it).
         /// 2p operations, four at a time on the vector path.
@@ -225,7 +221,7 @@ namespace OnlineRidge.Internal
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static double SmallestDowndatedDiagonal(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> t, out int index)
+        public static double SmallestDowndatedDiagonal(ReadOnlySpan<double> a, int s, int p, ReadOnlySpan<double> t, double c, out int index)
         {
 #if NET
             if (IsVectorized && p >= 4)
@@ -234,19 +230,20 @@ namespace OnlineRidge.Internal
                 ref double ar = ref MemoryMarshal.GetReference(a.Slice(0, ((p - 1) * s) + p));
                 ref double tr = ref MemoryMarshal.GetReference(t.Slice(0, p));
                 Vector256<double> low = Vector256.Create(double.PositiveInfinity);
+                Vector256<double> nc = Vector256.Create(-c);
                 int i = 0;
                 for (; i + 4 <= p; i += 4)
                 {
                     Vector256<double> ti = Vector256.LoadUnsafe(ref tr, (nuint)i);
                     Vector256<double> di = Vector256.Create(Unsafe.Add(ref ar, i * (s + 1)), Unsafe.Add(ref ar, (i + 1) * (s + 1)), Unsafe.Add(ref ar, (i + 2) * (s + 1)), Unsafe.Add(ref ar, (i + 3) * (s + 1)));
-                    low = Vector256.Min(low, Fma.MultiplyAdd(-ti, ti, di));
+                    low = Vector256.Min(low, Fma.MultiplyAdd(nc, ti * ti, di));
                 }
 
                 double rest = Math.Min(Math.Min(low.GetElement(0), low.GetElement(1)), Math.Min(low.GetElement(2), low.GetElement(3)));
                 for (; i < p; i++)
                 {
                     double ti = Unsafe.Add(ref tr, i);
-                    rest = Math.Min(rest, MultiplyAdd(-ti, ti, Unsafe.Add(ref ar, i * (s + 1))));
+                    rest = Math.Min(rest, MultiplyAdd(-c, ti * ti, Unsafe.Add(ref ar, i * (s + 1))));
                 }
 
                 if (rest > 0.0 && rest <= double.MaxValue)
@@ -261,7 +258,7 @@ namespace OnlineRidge.Internal
             for (int i = 0; i < p; i++)
             {
                 double ti = t[i];
-                double d = MultiplyAdd(-ti, ti, a[(i * s) + i]);
+                double d = MultiplyAdd(-c, ti * ti, a[(i * s) + i]);
                 if (!(d >= smallest))
                 {
                     smallest = d;
@@ -506,8 +503,9 @@ namespace OnlineRidge.Internal
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        private static double DowndateMultiplyVector(ref double a, int s, int p, ref double t, ref double x, ref double u)
+        private static double DowndateMultiplyVector(ref double a, int s, int p, ref double t, double coefficient, ref double x, ref double u)
         {
+            Vector256<double> nc = Vector256.Create(-coefficient);
             int c = 0;
             Vector256<double> q = Vector256<double>.Zero;
 
@@ -522,18 +520,18 @@ namespace OnlineRidge.Internal
                 {
                     ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
                     ref double r1 = ref Unsafe.Add(ref r0, s);
-                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
-                    Vector256<double> m1 = Vector256.Create(-Unsafe.Add(ref t, j + 1));
+                    Vector256<double> m0 = Vector256.Create(Unsafe.Add(ref t, j));
+                    Vector256<double> m1 = Vector256.Create(Unsafe.Add(ref t, j + 1));
                     Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
                     Vector256<double> x1 = Vector256.Create(Unsafe.Add(ref x, j + 1));
-                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
-                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
-                    Vector256<double> a2 = Fma.MultiplyAdd(m0, t2, Vector256.LoadUnsafe(ref r0, 8));
-                    Vector256<double> a3 = Fma.MultiplyAdd(m0, t3, Vector256.LoadUnsafe(ref r0, 12));
-                    Vector256<double> b0 = Fma.MultiplyAdd(m1, t0, Vector256.LoadUnsafe(ref r1));
-                    Vector256<double> b1 = Fma.MultiplyAdd(m1, t1, Vector256.LoadUnsafe(ref r1, 4));
-                    Vector256<double> b2 = Fma.MultiplyAdd(m1, t2, Vector256.LoadUnsafe(ref r1, 8));
-                    Vector256<double> b3 = Fma.MultiplyAdd(m1, t3, Vector256.LoadUnsafe(ref r1, 12));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, m0 * t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(nc, m0 * t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> a2 = Fma.MultiplyAdd(nc, m0 * t2, Vector256.LoadUnsafe(ref r0, 8));
+                    Vector256<double> a3 = Fma.MultiplyAdd(nc, m0 * t3, Vector256.LoadUnsafe(ref r0, 12));
+                    Vector256<double> b0 = Fma.MultiplyAdd(nc, m1 * t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> b1 = Fma.MultiplyAdd(nc, m1 * t1, Vector256.LoadUnsafe(ref r1, 4));
+                    Vector256<double> b2 = Fma.MultiplyAdd(nc, m1 * t2, Vector256.LoadUnsafe(ref r1, 8));
+                    Vector256<double> b3 = Fma.MultiplyAdd(nc, m1 * t3, Vector256.LoadUnsafe(ref r1, 12));
                     a0.StoreUnsafe(ref r0);
                     a1.StoreUnsafe(ref r0, 4);
                     a2.StoreUnsafe(ref r0, 8);
@@ -555,12 +553,12 @@ namespace OnlineRidge.Internal
                 if (j < p)
                 {
                     ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
-                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
+                    Vector256<double> m0 = Vector256.Create(Unsafe.Add(ref t, j));
                     Vector256<double> x0 = Vector256.Create(Unsafe.Add(ref x, j));
-                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
-                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
-                    Vector256<double> a2 = Fma.MultiplyAdd(m0, t2, Vector256.LoadUnsafe(ref r0, 8));
-                    Vector256<double> a3 = Fma.MultiplyAdd(m0, t3, Vector256.LoadUnsafe(ref r0, 12));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, m0 * t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(nc, m0 * t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> a2 = Fma.MultiplyAdd(nc, m0 * t2, Vector256.LoadUnsafe(ref r0, 8));
+                    Vector256<double> a3 = Fma.MultiplyAdd(nc, m0 * t3, Vector256.LoadUnsafe(ref r0, 12));
                     a0.StoreUnsafe(ref r0);
                     a1.StoreUnsafe(ref r0, 4);
                     a2.StoreUnsafe(ref r0, 8);
@@ -594,12 +592,12 @@ namespace OnlineRidge.Internal
                 {
                     ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
                     ref double r1 = ref Unsafe.Add(ref r0, s);
-                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
-                    Vector256<double> m1 = Vector256.Create(-Unsafe.Add(ref t, j + 1));
-                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
-                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
-                    Vector256<double> b0 = Fma.MultiplyAdd(m1, t0, Vector256.LoadUnsafe(ref r1));
-                    Vector256<double> b1 = Fma.MultiplyAdd(m1, t1, Vector256.LoadUnsafe(ref r1, 4));
+                    Vector256<double> m0 = Vector256.Create(Unsafe.Add(ref t, j));
+                    Vector256<double> m1 = Vector256.Create(Unsafe.Add(ref t, j + 1));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, m0 * t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(nc, m0 * t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> b0 = Fma.MultiplyAdd(nc, m1 * t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> b1 = Fma.MultiplyAdd(nc, m1 * t1, Vector256.LoadUnsafe(ref r1, 4));
                     a0.StoreUnsafe(ref r0);
                     a1.StoreUnsafe(ref r0, 4);
                     b0.StoreUnsafe(ref r1);
@@ -613,9 +611,9 @@ namespace OnlineRidge.Internal
                 if (j < p)
                 {
                     ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
-                    Vector256<double> m0 = Vector256.Create(-Unsafe.Add(ref t, j));
-                    Vector256<double> a0 = Fma.MultiplyAdd(m0, t0, Vector256.LoadUnsafe(ref r0));
-                    Vector256<double> a1 = Fma.MultiplyAdd(m0, t1, Vector256.LoadUnsafe(ref r0, 4));
+                    Vector256<double> m0 = Vector256.Create(Unsafe.Add(ref t, j));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, m0 * t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(nc, m0 * t1, Vector256.LoadUnsafe(ref r0, 4));
                     a0.StoreUnsafe(ref r0);
                     a1.StoreUnsafe(ref r0, 4);
                     e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
@@ -643,10 +641,10 @@ namespace OnlineRidge.Internal
                     ref double r1 = ref Unsafe.Add(ref r0, s);
                     ref double r2 = ref Unsafe.Add(ref r0, 2 * s);
                     ref double r3 = ref Unsafe.Add(ref r0, 3 * s);
-                    Vector256<double> a0 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j)), t0, Vector256.LoadUnsafe(ref r0));
-                    Vector256<double> a1 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 1)), t0, Vector256.LoadUnsafe(ref r1));
-                    Vector256<double> a2 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 2)), t0, Vector256.LoadUnsafe(ref r2));
-                    Vector256<double> a3 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j + 3)), t0, Vector256.LoadUnsafe(ref r3));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, j)) * t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a1 = Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, j + 1)) * t0, Vector256.LoadUnsafe(ref r1));
+                    Vector256<double> a2 = Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, j + 2)) * t0, Vector256.LoadUnsafe(ref r2));
+                    Vector256<double> a3 = Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, j + 3)) * t0, Vector256.LoadUnsafe(ref r3));
                     a0.StoreUnsafe(ref r0);
                     a1.StoreUnsafe(ref r1);
                     a2.StoreUnsafe(ref r2);
@@ -660,7 +658,7 @@ namespace OnlineRidge.Internal
                 for (; j < p; j++)
                 {
                     ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
-                    Vector256<double> a0 = Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, j)), t0, Vector256.LoadUnsafe(ref r0));
+                    Vector256<double> a0 = Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, j)) * t0, Vector256.LoadUnsafe(ref r0));
                     a0.StoreUnsafe(ref r0);
                     e0 = Fma.MultiplyAdd(Vector256.Create(Unsafe.Add(ref x, j)), a0, e0);
                 }
@@ -676,8 +674,9 @@ namespace OnlineRidge.Internal
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        private static void DowndateVector(ref double a, int s, int p, ref double t)
+        private static void DowndateVector(ref double a, int s, int p, ref double t, double coefficient)
         {
+            Vector256<double> nc = Vector256.Create(-coefficient);
             int c = 0;
 
             // Column blocks of 16, 8 and 4 with the block of t held in registers over all rows; every row operation is independent, so the
@@ -689,11 +688,11 @@ namespace OnlineRidge.Internal
                 for (int i = 0; i < p; i++)
                 {
                     ref double r = ref Unsafe.Add(ref a, (i * s) + c);
-                    Vector256<double> m = Vector256.Create(-Unsafe.Add(ref t, i));
-                    Fma.MultiplyAdd(m, t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
-                    Fma.MultiplyAdd(m, t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
-                    Fma.MultiplyAdd(m, t2, Vector256.LoadUnsafe(ref r, 8)).StoreUnsafe(ref r, 8);
-                    Fma.MultiplyAdd(m, t3, Vector256.LoadUnsafe(ref r, 12)).StoreUnsafe(ref r, 12);
+                    Vector256<double> m = Vector256.Create(Unsafe.Add(ref t, i));
+                    Fma.MultiplyAdd(nc, m * t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                    Fma.MultiplyAdd(nc, m * t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
+                    Fma.MultiplyAdd(nc, m * t2, Vector256.LoadUnsafe(ref r, 8)).StoreUnsafe(ref r, 8);
+                    Fma.MultiplyAdd(nc, m * t3, Vector256.LoadUnsafe(ref r, 12)).StoreUnsafe(ref r, 12);
                 }
             }
 
@@ -704,9 +703,9 @@ namespace OnlineRidge.Internal
                 for (int i = 0; i < p; i++)
                 {
                     ref double r = ref Unsafe.Add(ref a, (i * s) + c);
-                    Vector256<double> m = Vector256.Create(-Unsafe.Add(ref t, i));
-                    Fma.MultiplyAdd(m, t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
-                    Fma.MultiplyAdd(m, t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
+                    Vector256<double> m = Vector256.Create(Unsafe.Add(ref t, i));
+                    Fma.MultiplyAdd(nc, m * t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                    Fma.MultiplyAdd(nc, m * t1, Vector256.LoadUnsafe(ref r, 4)).StoreUnsafe(ref r, 4);
                 }
 
                 c += 8;
@@ -718,7 +717,7 @@ namespace OnlineRidge.Internal
                 for (int i = 0; i < p; i++)
                 {
                     ref double r = ref Unsafe.Add(ref a, (i * s) + c);
-                    Fma.MultiplyAdd(Vector256.Create(-Unsafe.Add(ref t, i)), t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
+                    Fma.MultiplyAdd(nc, Vector256.Create(Unsafe.Add(ref t, i)) * t0, Vector256.LoadUnsafe(ref r)).StoreUnsafe(ref r);
                 }
             }
         }

@@ -24,7 +24,7 @@ namespace OnlineRidge
     /// <para><b>Representation.</b> With the symmetric update and no windup protection or the trace bound, P is held as σ·P̃: a scalar σ and
     /// a dense matrix P̃ (both triangles, rows padded to whole vectors). Forgetting divides σ only (P ← P/β is σ ← σ/β, O(1)), and σ is folded
     /// back into P̃ by an exact power-of-two rescaling whenever it passes 2³², so neither over- nor underflows. The data term is the downdate
-    /// P̃ ← P̃ − t·tᵀ with t = √(w·σ/d)·P̃x, which keeps P̃ bitwise symmetric (tᵢtⱼ and tⱼtᵢ are the same number); it is deferred and applied
+    /// P̃ ← P̃ − c·u·uᵀ with u = P̃x and c = w·σ/d, entry by entry fl(P̃ᵢⱼ − c·fl(uᵢuⱼ)), which keeps P̃ bitwise symmetric (fl(uᵢuⱼ) and fl(uⱼuᵢ) are the same number) with no square root; it is deferred and applied
     /// in the same pass over P̃ as the next update's product P̃·x, so each update reads and writes P̃ once. Readers see the applied values.
     /// The other update forms and policies keep σ = 1 and write a second buffer.</para>
     /// <para><b>Windup.</b> <see cref="CovarianceFormSettings.Windup"/> selects a remedy of MATH.md §2.4 (see <see cref="WindupProtection"/>):
@@ -72,6 +72,13 @@ namespace OnlineRidge
 
         // The scale σ is folded back into the stored matrix (an exact power-of-two rescaling) once it exceeds 2^32.
         private static readonly double RenormalizeAbove = CovarianceKernels.ScaleB(1.0, 32);
+
+        // Outside [2⁻¹⁰⁰⁰, 2¹⁰⁰⁰] the squares of the projection are rescaled (RescaleProjection).
+        private static readonly double SquareRangeHigh = CovarianceKernels.ScaleB(1.0, 1000);
+        private static readonly double SquareRangeLow = CovarianceKernels.ScaleB(1.0, -1000);
+
+        // 1 + 2⁻⁴⁸: covers the roundings of fl(uᵢuⱼ) and of c·max uⱼ² in the overflow bound.
+        private const double BoundSlack = 1.0 + 3.552713678800501e-15;
         private readonly WindupProtectionKind windupKind;
         private readonly double logBeta;
         private readonly double traceLimit;
@@ -82,9 +89,8 @@ namespace OnlineRidge
         private readonly double deadZone;
         private double logForgettingProduct;
         private double lastForgettingFactor = double.NaN;
-        private readonly double[] v;
+        private double[] v;
         private readonly double[] gain;
-        private double[] root;
 
         // P = σ·P̃: P̃ dense row-major with row stride `stride` (both triangles, zero pad columns), σ = covarianceScale. The symmetric update
         // with no windup protection or the trace bound works in place on P̃ and keeps forgetting in σ (P ← P/β is σ ← σ/β); the other
@@ -98,10 +104,11 @@ namespace OnlineRidge
         // An upper bound on max |P̃ᵢⱼ| (exact after a rescan), which proves without a pass over P̃ that a downdate cannot overflow.
         private double covarianceBound;
 
-        // The downdate P̃ ← P̃ − t·tᵀ of the last accepted update is deferred and applied in the same pass as the next update's product
-        // P̃·x (one pass over P̃ per update instead of two). While pending, P̃ stands for fl(P̃ − t·tᵀ) entry by entry; readers compute those
-        // entries on the fly with the kernel's own arithmetic, so what they see is bit for bit the applied matrix.
+        // The downdate P̃ ← P̃ − c·u·uᵀ (c = g·σ, u = P̃x) of the last accepted update is deferred and applied in the same pass as the next
+        // update's product P̃·x (one pass over P̃ per update instead of two). While pending, P̃ stands for fl(P̃ − c·fl(uᵢuⱼ)) entry by entry;
+        // readers compute those entries on the fly with the kernel's own arithmetic, so what they see is bit for bit the applied matrix.
         private double[] pending;
+        private double pendingCoefficient;
         private bool hasPending;
         private readonly double[] paddedX;
         private double[] theta;
@@ -198,7 +205,6 @@ namespace OnlineRidge
             thetaNext = new double[stride];
             v = new double[stride];
             gain = new double[p];
-            root = new double[stride];
             pending = new double[stride];
             paddedX = new double[stride];
             if (prior is not null)
@@ -452,7 +458,7 @@ namespace OnlineRidge
 
         /// <summary>
         /// The symmetric update (MATH.md §2.2 item 1) in the scaled representation P = σ·P̃: with u = P̃·x, s = σ·xᵀu, d = β + w·s and g = w/d,
-        /// θ ← θ + (g·σ)·u·e, P̃ ← P̃ − t·tᵀ with t = √(g·σ)·u, and σ ← σ/β — the same matrix (P − g·v·vᵀ)/β, v = P·x, without touching every
+        /// θ ← θ + (g·σ)·u·e, P̃ ← P̃ − (g·σ)·u·uᵀ, and σ ← σ/β — the same matrix (P − g·v·vᵀ)/β, v = P·x, without touching every
         /// entry a second time for the division by β. Every check (s ≥ 0, d &gt; 0, each new diagonal entry positive, no entry of P beyond
         /// 2^1020, finite θ and J*) is made before anything is written, so a refused update changes nothing.
         /// </summary>
@@ -483,14 +489,14 @@ namespace OnlineRidge
             double projection;
             if (stride == 4 && CovarianceKernels.IsVectorized)
             {
-                projection = CovarianceKernels.ProjectSmall(covariance, p, hasPending, pending, x, v);
+                projection = CovarianceKernels.ProjectSmall(covariance, p, hasPending, pending, pendingCoefficient, x, v);
             }
             else
             {
                 // The kernels read x with its zero pad.
                 x.CopyTo(paddedX);
                 projection = hasPending
-                    ? CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, paddedX, v)
+                    ? CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, pendingCoefficient, paddedX, v)
                     : CovarianceKernels.Multiply(covariance, stride, p, paddedX, v);
             }
 
@@ -505,25 +511,35 @@ namespace OnlineRidge
 
             double g = weight / d;
             double gs = g * sigma;
-            // t = √(g·σ)·u and θ' = θ + (g·σ·e)·u; the pad entries of u are 0 (pad columns of P̃ are 0), so the pads of t and θ stay 0.
-            double largest = CovarianceKernels.GainStep(v, Math.Sqrt(gs), gs * e, theta, thetaNext, root, stride);
+            // θ' = θ + (g·σ·e)·u and max uⱼ²; the pad entries of u are 0 (pad columns of P̃ are 0), so the pad of θ stays 0. The downdate
+            // term c·fl(uᵢuⱼ), c = g·σ, is at most c·max uⱼ² up to one rounding, covered by the slack factor.
+            double largestSquare = CovarianceKernels.GainStep(v, gs * e, theta, thetaNext, stride);
+            double coefficient = gs;
+            if (!(largestSquare <= SquareRangeHigh && (largestSquare >= SquareRangeLow || largestSquare == 0.0)) && !double.IsNaN(largestSquare))
+            {
+                // uᵢuⱼ would over- or underflow although c·uᵢuⱼ need not (large or tiny P̃): scale u by 2⁻ᵏ and c by 2²ᵏ, exactly, so the
+                // downdate's products are the same numbers scaled by powers of two.
+                largestSquare = RescaleProjection(ref coefficient);
+            }
+
+            double largest = coefficient * largestSquare * BoundSlack;
             // w·e²/d = g·e²: no second division on the update path.
             double newCost = factor * (minimumCost + (g * e * e));
-            if (!Guard.IsFinite(largest) || !Guard.IsFinite(newCost))
+            if (!Guard.IsFinite(largest) || !Guard.IsFinite(newCost) || !(coefficient > 0.0))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, double.NaN, double.NaN);
                 return false;
             }
 
             // The new diagonal, computed exactly as the downdate will compute it.
-            double diagonal = CovarianceKernels.SmallestDowndatedDiagonal(covariance, stride, p, root, out int smallestAt);
+            double diagonal = CovarianceKernels.SmallestDowndatedDiagonal(covariance, stride, p, v, coefficient, out int smallestAt);
             if (!(diagonal > 0.0))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);
                 return false;
             }
 
-            // |P̃ᵢⱼ − tᵢtⱼ| ≤ max|P̃| + max tᵢ²: when that bound (times σ) is below the limit, no entry can overflow.
+            // |P̃ᵢⱼ − c·uᵢuⱼ| ≤ max|P̃| + c·max uᵢ²: when that bound (times σ) is below the limit, no entry can overflow.
             double bound = covarianceBound + largest;
             if (!(bound * sigmaNext < OverflowLimit))
             {
@@ -536,7 +552,8 @@ namespace OnlineRidge
                 bound = covarianceBound + largest;
             }
 
-            (pending, root) = (root, pending);
+            (pending, v) = (v, pending);
+            pendingCoefficient = coefficient;
             hasPending = true;
             covarianceBound = bound;
             covarianceScale = sigmaNext;
@@ -545,6 +562,31 @@ namespace OnlineRidge
             CommitInPlace(e, factor, logFactor);
             breakdown = BreakdownInfo.None;
             return true;
+        }
+
+        /// <summary>
+        /// Scales the projection u (in <c>v</c>) by 2⁻ᵏ, k the exponent of max|uᵢ|, and the downdate coefficient by 2²ᵏ — both exact — and
+        /// returns the new max uᵢ² (in [1, 4)). O(p); runs only when max uᵢ² leaves [2⁻¹⁰⁰⁰, 2¹⁰⁰⁰].
+        /// </summary>
+        private double RescaleProjection(ref double coefficient)
+        {
+            double largestAbs = 0.0;
+            for (int j = 0; j < p; j++)
+            {
+                largestAbs = Math.Max(largestAbs, Math.Abs(v[j]));
+            }
+
+            int k = CovarianceKernels.Exponent(largestAbs);
+            double f = CovarianceKernels.ScaleB(1.0, -k);
+            double square = 0.0;
+            for (int j = 0; j < p; j++)
+            {
+                v[j] *= f;
+                square = Math.Max(square, v[j] * v[j]);
+            }
+
+            coefficient = CovarianceKernels.ScaleB(coefficient, 2 * k);
+            return square;
         }
 
         /// <summary>Replaces the running bound by the exact max |P̃ᵢⱼ| (O(p²)); true when (max + <paramref name="addition"/>)·σ is within the limit.</summary>
@@ -560,7 +602,7 @@ namespace OnlineRidge
         {
             if (hasPending)
             {
-                CovarianceKernels.RankOneDowndate(covariance, stride, p, pending);
+                CovarianceKernels.RankOneDowndate(covariance, stride, p, pending, pendingCoefficient);
                 hasPending = false;
             }
         }
@@ -569,7 +611,7 @@ namespace OnlineRidge
         private double ScaledEntry(int i, int j)
         {
             double value = covariance[(i * stride) + j];
-            return hasPending ? CovarianceKernels.MultiplyAdd(-pending[i], pending[j], value) : value;
+            return hasPending ? CovarianceKernels.MultiplyAdd(-pendingCoefficient, pending[i] * pending[j], value) : value;
         }
 
         /// <summary>tr(P) = Σᵢ fl(σ·P̃ᵢᵢ) in index order (as a reader of <see cref="CopyCovarianceTo"/> would sum it). O(p).</summary>

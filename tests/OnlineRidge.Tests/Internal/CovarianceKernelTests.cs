@@ -106,7 +106,7 @@ namespace OnlineRidge.Tests.Internal
         }
 
         /// <summary>
-        /// RankOneDowndate sets every entry of rows 0 … p−1 (pad columns included) to the single expression fl(−tᵢ·tⱼ + Aᵢⱼ) of its path,
+        /// RankOneDowndate sets every entry of rows 0 … p−1 (pad columns included) to the expression fl(−c·fl(tᵢ·tⱼ) + Aᵢⱼ) of its path,
         /// bit for bit; a bitwise symmetric input stays bitwise symmetric; the pads stay +0; nothing after row p − 1 is written. A planted
         /// diagonal entry (and, mostly, the random ones) rounds differently fused and unfused, so the comparison tells the two apart.
         /// </summary>
@@ -119,20 +119,22 @@ namespace OnlineRidge.Tests.Internal
             double[] a = RandomSpd(random, p, s);
             double[] t = RandomDowndate(random, a, p, s);
 
-            // A planted entry where the roundings differ: fl(A₀₀ − t₀²) is −2^−60 fused and 0 unfused.
-            t[0] = 1.0 + (1.0 / (1L << 30));
-            a[0] = 1.0 + (1.0 / (1L << 29));
+            // A planted entry where the roundings differ: with c = 1 + 2^−30 and t₀ = 1 + 2^−20 (t₀² exact), c·t₀² needs 71 bits, and with
+            // A₀₀ = fl(c·t₀²) the result is −2^−70 fused and 0 unfused.
+            double c = 1.0 + (1.0 / (1L << 30));
+            t[0] = 1.0 + (1.0 / (1L << 20));
+            a[0] = c * (t[0] * t[0]);
             double[] before = (double[])a.Clone();
             AssertBitwiseSymmetric(before, p, s, "input");
-            CovarianceKernels.RankOneDowndate(a, s, p, t);
+            CovarianceKernels.RankOneDowndate(a, s, p, t, c);
             int separating = 0;
             for (int i = 0; i < p; i++)
             {
                 for (int j = 0; j < s; j++)
                 {
                     double old = before[(i * s) + j];
-                    AssertBits(Reference(-t[i], t[j], old), a[(i * s) + j], $"p = {p}, A({i},{j})");
-                    if (Bits(Math.FusedMultiplyAdd(-t[i], t[j], old)) != Bits((-t[i] * t[j]) + old))
+                    AssertBits(Reference(-c, t[i] * t[j], old), a[(i * s) + j], $"p = {p}, A({i},{j})");
+                    if (Bits(Math.FusedMultiplyAdd(-c, t[i] * t[j], old)) != Bits((-c * (t[i] * t[j])) + old))
                     {
                         separating++;
                     }
@@ -165,8 +167,9 @@ namespace OnlineRidge.Tests.Internal
             double[] apart = (double[])fused.Clone();
             double[] uFused = Garbage(s);
             double[] uApart = Garbage(s);
-            double qFused = CovarianceKernels.DowndateAndMultiply(fused, s, p, t, x, uFused);
-            CovarianceKernels.RankOneDowndate(apart, s, p, t);
+            double c = 0.5 + random.NextDouble();
+            double qFused = CovarianceKernels.DowndateAndMultiply(fused, s, p, t, c, x, uFused);
+            CovarianceKernels.RankOneDowndate(apart, s, p, t, c);
             double qApart = CovarianceKernels.Multiply(apart, s, p, x, uApart);
             AssertBits(qApart, qFused, $"p = {p}, x'u");
             for (int k = 0; k < fused.Length; k++)
@@ -181,8 +184,8 @@ namespace OnlineRidge.Tests.Internal
         }
 
         /// <summary>
-        /// GainStep writes tⱼ = r·vⱼ and θ'ⱼ = fl(c·vⱼ + θⱼ) (the path's single expression) bit for bit over all s entries, returns exactly
-        /// max tⱼ², and writes nothing after entry s − 1. A planted entry of θ' (and, mostly, the random ones) rounds differently fused and
+        /// GainStep writes θ'ⱼ = fl(c·vⱼ + θⱼ) (the path's single expression) bit for bit over all s entries, returns exactly max vⱼ², and
+        /// writes nothing after entry s − 1. A planted entry of θ' (and, mostly, the random ones) rounds differently fused and
         /// unfused, so the comparison tells the two apart.
         /// </summary>
         [Theory]
@@ -193,23 +196,19 @@ namespace OnlineRidge.Tests.Internal
             var random = new Random(5400 + p);
             double[] v = RandomVector(random, p, s);
             double[] theta = RandomVector(random, p, s);
-            double r = 0.5 + random.NextDouble();
 
             // A planted entry where the roundings differ: c·v₀ + θ₀ = 2^−60 fused and 0 unfused.
             double c = -(1.0 + (1.0 / (1L << 30)));
             v[0] = 1.0 - (1.0 / (1L << 30));
             theta[0] = 1.0;
             double[] thetaNext = Garbage(s);
-            double[] t = Garbage(s);
-            double largest = CovarianceKernels.GainStep(v, r, c, theta, thetaNext, t, s);
+            double largest = CovarianceKernels.GainStep(v, c, theta, thetaNext, s);
             double expectedLargest = 0.0;
             int separating = 0;
             for (int j = 0; j < s; j++)
             {
-                double tj = r * v[j];
-                AssertBits(tj, t[j], $"p = {p}, t[{j}]");
                 AssertBits(Reference(c, v[j], theta[j]), thetaNext[j], $"p = {p}, θ'[{j}]");
-                expectedLargest = Math.Max(expectedLargest, tj * tj);
+                expectedLargest = Math.Max(expectedLargest, v[j] * v[j]);
                 if (Bits(Math.FusedMultiplyAdd(c, v[j], theta[j])) != Bits((c * v[j]) + theta[j]))
                 {
                     separating++;
@@ -217,15 +216,14 @@ namespace OnlineRidge.Tests.Internal
             }
 
             Assert.True(expectedLargest > 0.0);
-            AssertBits(expectedLargest, largest, $"p = {p}, max t²");
+            AssertBits(expectedLargest, largest, $"p = {p}, max v²");
             Assert.True(separating > 0, $"p = {p}: no entry where fused and unfused differ");
-            AssertTailIntact(t, s);
             AssertTailIntact(thetaNext, s);
         }
 
         /// <summary>
-        /// GainStep returns NaN when any single entry of t or θ' is not finite: vⱼ = ±∞, vⱼ = NaN, θⱼ = ±∞ or θⱼ = NaN at each position
-        /// j &lt; s in turn (every lane of every vector, pad lanes included, and every index of the scalar loop); a finite t whose square
+        /// GainStep returns NaN when any single entry of v or θ' is not finite: vⱼ = ±∞, vⱼ = NaN, θⱼ = ±∞ or θⱼ = NaN at each position
+        /// j &lt; s in turn (every lane of every vector, pad lanes included, and every index of the scalar loop); a finite v whose square
         /// overflows is not a failure of this kind and returns +∞.
         /// </summary>
         [Theory]
@@ -236,10 +234,9 @@ namespace OnlineRidge.Tests.Internal
             var random = new Random(5500 + p);
             double[] v = RandomVector(random, p, s);
             double[] theta = RandomVector(random, p, s);
-            const double r = 0.8, c = -1.3;
+            const double c = -1.3;
             var thetaNext = new double[s];
-            var t = new double[s];
-            Assert.False(double.IsNaN(CovarianceKernels.GainStep(v, r, c, theta, thetaNext, t, s)), $"p = {p}: finite inputs");
+            Assert.False(double.IsNaN(CovarianceKernels.GainStep(v, c, theta, thetaNext, s)), $"p = {p}: finite inputs");
             double[] bad = { double.PositiveInfinity, double.NegativeInfinity, double.NaN };
             for (int j = 0; j < s; j++)
             {
@@ -247,20 +244,21 @@ namespace OnlineRidge.Tests.Internal
                 {
                     double[] vBad = (double[])v.Clone();
                     vBad[j] = value;
-                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(vBad, r, c, theta, thetaNext, t, s)), $"p = {p}: v[{j}] = {value}");
+                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(vBad, c, theta, thetaNext, s)), $"p = {p}: v[{j}] = {value}");
                     double[] thetaBad = (double[])theta.Clone();
                     thetaBad[j] = value;
-                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(v, r, c, thetaBad, thetaNext, t, s)), $"p = {p}: θ[{j}] = {value}");
+                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(v, c, thetaBad, thetaNext, s)), $"p = {p}: θ[{j}] = {value}");
                 }
 
                 double[] vHuge = (double[])v.Clone();
                 vHuge[j] = 1e200;
-                Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStep(vHuge, r, c, theta, thetaNext, t, s));
+                Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStep(vHuge, c, theta, thetaNext, s));
             }
         }
 
         /// <summary>
-        /// SmallestDowndatedDiagonal returns min fl(Aᵢᵢ − tᵢ²) over i &lt; p (the path's single expression) and, when that minimum is not
+        /// SmallestDowndatedDiagonal returns min fl(Aᵢᵢ − c·fl(tᵢ²)) over i &lt; p (the path's expression; c = 0.8 for the all-positive case, 1
+        /// for the others) and, when that minimum is not
         /// positive, the first index holding it (ties keep the first index); −1 when every new diagonal entry is positive. Checked for
         /// all-positive values, a planted negative minimum, two-way negative ties and an all-equal diagonal; and the value is bit for bit the
         /// diagonal entry RankOneDowndate then produces.
@@ -275,12 +273,12 @@ namespace OnlineRidge.Tests.Internal
             // All new diagonals positive: tᵢ² ≤ Aᵢᵢ/4.
             double[] a = RandomSpd(random, p, s);
             double[] t = SmallDowndate(random, a, p, s);
-            Assert.True(CheckSmallest(a, t, p, s, -1) > 0.0, $"p = {p}: all new diagonals should be positive");
+            Assert.True(CheckSmallest(a, t, 0.8, p, s, -1) > 0.0, $"p = {p}: all new diagonals should be positive");
 
             // A negative minimum planted at k: t_k² = 2.25·A_kk, the others stay at least 3/4 of their diagonal.
             int k = random.Next(p);
             t[k] = 1.5 * Math.Sqrt(a[(k * s) + k]);
-            double negative = CheckSmallest(a, t, p, s, k);
+            double negative = CheckSmallest(a, t, 1.0, p, s, k);
             Assert.True(negative < 0.0, $"p = {p}: planted minimum {negative:R}");
 
             // Ties: equal diagonals and t_m = −t_k give the same negative bits at k and m, below all others (−0.44·A_kk against ≥ 0.75·Aᵢᵢ);
@@ -296,7 +294,7 @@ namespace OnlineRidge.Tests.Internal
                     a[(hi * s) + hi] = a[(lo * s) + lo];
                     t[lo] = 1.2 * Math.Sqrt(a[(lo * s) + lo]);
                     t[hi] = -t[lo];
-                    CheckSmallest(a, t, p, s, lo);
+                    CheckSmallest(a, t, 1.0, p, s, lo);
                 }
             }
 
@@ -307,7 +305,7 @@ namespace OnlineRidge.Tests.Internal
                 a[(i * s) + i] = 2.0;
             }
 
-            double equal = CheckSmallest(a, new double[s], p, s, -1);
+            double equal = CheckSmallest(a, new double[s], 1.0, p, s, -1);
             Assert.Equal(2.0, equal);
         }
 
@@ -518,13 +516,13 @@ namespace OnlineRidge.Tests.Internal
         }
 
         /// <summary>Checks the kernel against the scalar scan (and the planted index when one is given) and returns the value.</summary>
-        private static double CheckSmallest(double[] a, double[] t, int p, int s, int plantedIndex)
+        private static double CheckSmallest(double[] a, double[] t, double c, int p, int s, int plantedIndex)
         {
             double expected = double.PositiveInfinity;
             int smallestAt = -1;
             for (int i = 0; i < p; i++)
             {
-                double d = Reference(-t[i], t[i], a[(i * s) + i]);
+                double d = Reference(-c, t[i] * t[i], a[(i * s) + i]);
                 if (d < expected)
                 {
                     expected = d;
@@ -539,12 +537,12 @@ namespace OnlineRidge.Tests.Internal
                 Assert.Equal(plantedIndex, smallestAt);
             }
 
-            double value = CovarianceKernels.SmallestDowndatedDiagonal(a, s, p, t, out int index);
+            double value = CovarianceKernels.SmallestDowndatedDiagonal(a, s, p, t, c, out int index);
             Assert.Equal(expectedIndex, index);
             AssertBits(expected, value, $"p = {p}, smallest at {index}");
 
             double[] downdated = (double[])a.Clone();
-            CovarianceKernels.RankOneDowndate(downdated, s, p, t);
+            CovarianceKernels.RankOneDowndate(downdated, s, p, t, c);
             AssertBits(value, downdated[(smallestAt * s) + smallestAt], $"p = {p}, downdated diagonal {smallestAt}");
             return value;
         }

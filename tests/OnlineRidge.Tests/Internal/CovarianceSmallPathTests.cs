@@ -65,6 +65,7 @@ namespace OnlineRidge.Tests.Internal
                 }
 
                 var t = new double[4];
+                double c = 0.5 + random.NextDouble();
                 var x = new double[p];
                 for (int i = 0; i < p; i++)
                 {
@@ -75,11 +76,11 @@ namespace OnlineRidge.Tests.Internal
                 var expected = (double[])a.Clone();
                 if (downdate)
                 {
-                    CovarianceKernels.RankOneDowndate(expected, 4, 4, t);
+                    CovarianceKernels.RankOneDowndate(expected, 4, 4, t, c);
                 }
 
                 var u = new double[4];
-                double xu = CovarianceKernels.ProjectSmall(a, p, downdate, t, x, u);
+                double xu = CovarianceKernels.ProjectSmall(a, p, downdate, t, c, x, u);
                 for (int i = 0; i < 16; i++)
                 {
                     Assert.Equal(BitConverter.DoubleToInt64Bits(expected[i]), BitConverter.DoubleToInt64Bits(a[i]));

@@ -190,6 +190,56 @@ namespace OnlineRidge.Tests.Recursive
         }
 
         /// <summary>
+        /// Scale equivariance (textbook identity of least squares): with x' = 2⁵⁰⁵·x and δ' = 2¹⁰¹⁰·δ the recursion gives P' = 2⁻¹⁰¹⁰·P and
+        /// θ' = 2⁻⁵⁰⁵·θ. In the scaled run the squares of P̃x fall below 2⁻¹⁰⁰⁰, so every update takes the exact power-of-two rescaling of
+        /// the projection; the two runs agree to 10⁻¹² relative.
+        /// </summary>
+        [Fact]
+        public void TinyProjectionsAreRescaledExactlyAndKeepTheScaleIdentity()
+        {
+            const int P = 3;
+            double up = Math.Pow(2.0, 505);
+            var plain = new CovarianceFormEstimator(P, new CovarianceFormSettings { ForgettingFactor = 0.98, PriorWeight = 1.0 });
+            var scaled = new CovarianceFormEstimator(P, new CovarianceFormSettings { ForgettingFactor = 0.98, PriorWeight = Math.Pow(2.0, 1010) });
+            var rng = new Random(42);
+            var x = new double[P];
+            var xs = new double[P];
+            for (int i = 0; i < 40; i++)
+            {
+                for (int j = 0; j < P; j++)
+                {
+                    x[j] = rng.NextDouble() - 0.5;
+                    xs[j] = x[j] * up;
+                }
+
+                double y = x[0] - x[2] + (0.01 * rng.NextDouble());
+                plain.Update(x, y);
+                scaled.Update(xs, y);
+            }
+
+            var cp = new double[P * P];
+            var cs = new double[P * P];
+            plain.CopyCovarianceTo(cp);
+            scaled.CopyCovarianceTo(cs);
+            double largest = cp.Max(Math.Abs);
+            for (int k = 0; k < P * P; k++)
+            {
+                Assert.True(Math.Abs((cs[k] * up * up) - cp[k]) <= 1e-12 * largest, $"P[{k}]: {cs[k] * up * up:R} vs {cp[k]:R}");
+            }
+
+            var tp = new double[P];
+            var ts = new double[P];
+            plain.CopyParametersTo(tp);
+            scaled.CopyParametersTo(ts);
+            for (int j = 0; j < P; j++)
+            {
+                Assert.True(Math.Abs((ts[j] * up) - tp[j]) <= 1e-12 * Math.Max(1.0, Math.Abs(tp[j])), $"theta[{j}]");
+            }
+
+            Assert.True(Math.Abs(scaled.MinimumCost - plain.MinimumCost) <= 1e-12 * plain.MinimumCost);
+        }
+
+        /// <summary>
         /// Tier-2 failure (MATH.md §2.2 item 3): an update whose intermediate values overflow is reported as a breakdown
         /// (false from TryUpdate, RidgeBreakdownException from Update) and leaves θ, P, J* and the count unchanged.
         /// </summary>
