@@ -493,11 +493,17 @@ namespace OnlineRidge
             }
             else
             {
-                // The kernels read x with its zero pad.
-                x.CopyTo(paddedX);
+                // The kernels read x with its zero pad (x itself when p is already a whole number of vectors).
+                ReadOnlySpan<double> xs = x;
+                if (p != stride)
+                {
+                    x.CopyTo(paddedX);
+                    xs = paddedX;
+                }
+
                 projection = hasPending
-                    ? CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, pendingCoefficient, paddedX, v)
-                    : CovarianceKernels.Multiply(covariance, stride, p, paddedX, v);
+                    ? CovarianceKernels.DowndateAndMultiply(covariance, stride, p, pending, pendingCoefficient, xs, v)
+                    : CovarianceKernels.Multiply(covariance, stride, p, xs, v);
             }
 
             hasPending = false;
