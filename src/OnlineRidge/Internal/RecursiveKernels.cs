@@ -23,10 +23,6 @@ namespace OnlineRidge.Internal
         /// <summary>Offset of entry (i, j), i ≤ j, in a packed upper triangle of order d.</summary>
         public static int Index(int i, int j, int d) => RowOffset(i, d) + (j - i);
 
-        /// <summary>Entry (i, j) of the symmetric matrix, either order of indices.</summary>
-        public static double Get(ReadOnlySpan<double> packed, int d, int i, int j) =>
-            i <= j ? packed[Index(i, j, d)] : packed[Index(j, i, d)];
-
         /// <summary>v = P·x for symmetric P (packed upper triangle, order d). d² multiply-adds.</summary>
         public static void SymmetricMultiply(ReadOnlySpan<double> packed, int d, ReadOnlySpan<double> x, Span<double> v)
         {
@@ -76,42 +72,6 @@ namespace OnlineRidge.Internal
             }
 
             return s;
-        }
-
-        /// <summary>P ← scale·P + coefficient·u·uᵀ on the packed upper triangle (order d). d(d+1)/2 multiply-adds (one more per entry when scale ≠ 1).</summary>
-        public static void ScaleAddRankOne(Span<double> packed, int d, double scale, double coefficient, ReadOnlySpan<double> u)
-        {
-            int o = 0;
-            for (int i = 0; i < d; i++)
-            {
-                int len = d - i;
-                Span<double> row = packed.Slice(o, len);
-                double c = coefficient * u[i];
-                if (scale == 1.0)
-                {
-                    Axpy(c, u.Slice(i, len), row);
-                }
-                else
-                {
-                    ScaleAxpy(scale, c, u.Slice(i, len), row);
-                }
-
-                o += len;
-            }
-        }
-
-        /// <summary>packed ← scale·packed (any length).</summary>
-        public static void Scale(Span<double> values, double scale)
-        {
-            if (scale == 1.0)
-            {
-                return;
-            }
-
-            for (int i = 0; i < values.Length; i++)
-            {
-                values[i] *= scale;
-            }
         }
 
         /// <summary>
@@ -297,20 +257,6 @@ namespace OnlineRidge.Internal
             return 0;
         }
 
-        /// <summary>Trace of a packed upper triangle of order d (sum of the diagonal entries). d additions.</summary>
-        public static double Trace(ReadOnlySpan<double> packed, int d)
-        {
-            double t = 0.0;
-            int o = 0;
-            for (int i = 0; i < d; i++)
-            {
-                t += packed[o];
-                o += d - i;
-            }
-
-            return t;
-        }
-
         /// <summary>Writes the full d×d row-major matrix (both triangles) of a packed upper triangle.</summary>
         public static void Unpack(ReadOnlySpan<double> packed, int d, Span<double> full)
         {
@@ -379,32 +325,6 @@ namespace OnlineRidge.Internal
             for (; i < n; i++)
             {
                 y[i] += a * x[i];
-            }
-        }
-
-        /// <summary>y ← s·y + a·x over x's length.</summary>
-        public static void ScaleAxpy(double s, double a, ReadOnlySpan<double> x, Span<double> y)
-        {
-            int n = x.Length;
-            int i = 0;
-#if NET
-            if (Vector.IsHardwareAccelerated && n >= Vector<double>.Count)
-            {
-                ReadOnlySpan<Vector<double>> vx = MemoryMarshal.Cast<double, Vector<double>>(x);
-                Span<Vector<double>> vy = MemoryMarshal.Cast<double, Vector<double>>(y.Slice(0, n));
-                var va = new Vector<double>(a);
-                var vs = new Vector<double>(s);
-                for (int k = 0; k < vx.Length; k++)
-                {
-                    vy[k] = (vs * vy[k]) + (va * vx[k]);
-                }
-
-                i = vx.Length * Vector<double>.Count;
-            }
-#endif
-            for (; i < n; i++)
-            {
-                y[i] = (s * y[i]) + (a * x[i]);
             }
         }
 
