@@ -274,7 +274,7 @@ namespace OnlineRidge.Internal
             return smallest;
         }
 
-        /// <summary>Σ aᵢbᵢ over a's length (b at least as long): four-wide FMA with two accumulators on the vector path, then the scalar tail. n multiply-adds.</summary>
+        /// <summary>Σ aᵢbᵢ over a's length (b at least as long), the one dot product of the recursive forms (so a prediction and an update's a-priori error are the same number): four-wide FMA with two accumulators on the vector path, then the scalar tail. n multiply-adds.</summary>
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif

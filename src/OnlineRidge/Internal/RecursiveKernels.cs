@@ -238,7 +238,7 @@ namespace OnlineRidge.Internal
                 double gi = g * v[i];
                 for (int j = 0; j < dst.Length; j++)
                 {
-                    double square = Dot(source.Slice((i + j) * stride, d), rowI);
+                    double square = CovarianceKernels.Dot(source.Slice((i + j) * stride, d), rowI);
                     dst[j] = (src[j] / beta) - (gi * v[i + j]) - (contraction * square);
                 }
 
@@ -272,35 +272,6 @@ namespace OnlineRidge.Internal
 
                 o += d - i;
             }
-        }
-
-        /// <summary>Σ aᵢ bᵢ over the common length (a.Length ≤ b.Length).</summary>
-        public static double Dot(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
-        {
-            int n = a.Length;
-            int i = 0;
-            double s = 0.0;
-#if NET
-            if (Vector.IsHardwareAccelerated && n >= 2 * Vector<double>.Count)
-            {
-                ReadOnlySpan<Vector<double>> va = MemoryMarshal.Cast<double, Vector<double>>(a);
-                ReadOnlySpan<Vector<double>> vb = MemoryMarshal.Cast<double, Vector<double>>(b.Slice(0, n));
-                Vector<double> acc = Vector<double>.Zero;
-                for (int k = 0; k < va.Length; k++)
-                {
-                    acc += va[k] * vb[k];
-                }
-
-                s = Vector.Sum(acc);
-                i = va.Length * Vector<double>.Count;
-            }
-#endif
-            for (; i < n; i++)
-            {
-                s += a[i] * b[i];
-            }
-
-            return s;
         }
 
         /// <summary>y ← y + a·x over x's length.</summary>

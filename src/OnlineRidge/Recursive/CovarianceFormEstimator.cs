@@ -755,7 +755,7 @@ namespace OnlineRidge
         {
             Guard.Length(x.Length, p, nameof(x));
             Guard.AllFinite(x, nameof(x));
-            return RecursiveKernels.Dot(x, theta);
+            return CovarianceKernels.Dot(x, theta);
         }
 
         /// <summary>Writes θₙ (θ₀ before the first update) into <paramref name="destination"/>. O(p), no allocation.</summary>

@@ -611,7 +611,7 @@ namespace OnlineRidge
             Guard.Length(x.Length, p, nameof(x));
             Guard.AllFinite(x, nameof(x));
             EnsureSolved();
-            return solutionIntercept + RecursiveKernels.Dot(x, solution);
+            return solutionIntercept + CovarianceKernels.Dot(x, solution);
         }
 
         /// <summary>

@@ -169,7 +169,7 @@ namespace OnlineRidge
             else
             {
                 RecursiveKernels.SymmetricMultiply(covariance, p, x, v);
-                double s = RecursiveKernels.Dot(x, v);
+                double s = CovarianceKernels.Dot(x, v);
                 double d = beta + (weight * s);
                 if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
                 {
