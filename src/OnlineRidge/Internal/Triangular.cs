@@ -141,7 +141,9 @@ namespace OnlineRidge.Internal
         /// <summary>
         /// Estimates σ_max(R)/σ_min(R) of a non-singular upper-triangular R by power iteration on RᵀR and inverse iteration
         /// (triangular solves), <paramref name="iterations"/> steps each, from a fixed start vector (deterministic).
-        /// Each estimate is a lower bound of the true singular value ratio; 30 steps are within a few percent for all but clustered spectra.
+        /// Each estimate is a lower bound of the true singular value ratio; 30 steps are within a few percent for all but clustered spectra
+        /// (against MathNet's SVD, ConditionEstimateTests, n = 1…40: ≥ 0.99 of the true condition for spread, clustered-top,
+        /// clustered-bottom and near-identity spectra, ≥ 0.966 for two tight clusters). The passes run on the shared vector kernels.
         /// O(iterations·n²). <paramref name="work"/> needs length 2n. Returns +∞ on a zero diagonal.
         /// </summary>
         public static double ConditionEstimate(ReadOnlySpan<double> r, int n, int stride, Span<double> work, int iterations = 30)
@@ -184,8 +186,8 @@ namespace OnlineRidge.Internal
             double inverseSmin = 0.0;
             for (int it = 0; it < iterations; it++)
             {
-                SolveUpperTransposed(r, n, stride, v);
-                SolveUpper(r, n, stride, v);
+                EstimateSolveUpperTransposed(r, n, stride, v);
+                EstimateSolveUpper(r, n, stride, v);
                 double nv = Norm(v);
                 if (!(nv > 0.0) || double.IsInfinity(nv))
                 {
@@ -212,18 +214,13 @@ namespace OnlineRidge.Internal
             Scale(v, 1.0 / Math.Sqrt(norm));
         }
 
+        // The estimate's passes run on the shared vector kernels (CovarianceKernels.Dot, GramUpdateKernels.Axpy); they affect only the
+        // estimate, never a solution (the solves above keep their own scalar order).
         private static void MultiplyUpper(ReadOnlySpan<double> r, int n, int stride, ReadOnlySpan<double> x, Span<double> y)
         {
             for (int i = 0; i < n; i++)
             {
-                double s = 0.0;
-                int row = i * stride;
-                for (int k = i; k < n; k++)
-                {
-                    s += r[row + k] * x[k];
-                }
-
-                y[i] = s;
+                y[i] = CovarianceKernels.Dot(r.Slice((i * stride) + i, n - i), x.Slice(i, n - i));
             }
         }
 
@@ -232,17 +229,48 @@ namespace OnlineRidge.Internal
             y.Slice(0, n).Clear();
             for (int i = 0; i < n; i++)
             {
-                double xi = x[i];
-                int row = i * stride;
-                for (int k = i; k < n; k++)
-                {
-                    y[k] += r[row + k] * xi;
-                }
+                GramUpdateKernels.Axpy(x[i], r.Slice((i * stride) + i, n - i), y.Slice(i, n - i));
             }
         }
 
+        /// <summary>b ← R⁻¹b for the estimate (diagonal checked non-zero by the caller): dot form, vector kernels.</summary>
+        private static void EstimateSolveUpper(ReadOnlySpan<double> r, int n, int stride, Span<double> b)
+        {
+            for (int i = n - 1; i >= 0; i--)
+            {
+                int row = i * stride;
+                double s = b[i] - CovarianceKernels.Dot(r.Slice(row + i + 1, n - i - 1), b.Slice(i + 1, n - i - 1));
+                b[i] = s / r[row + i];
+            }
+        }
+
+        /// <summary>b ← R⁻ᵀb for the estimate (diagonal checked non-zero by the caller): axpy form, vector kernels.</summary>
+        private static void EstimateSolveUpperTransposed(ReadOnlySpan<double> r, int n, int stride, Span<double> b)
+        {
+            for (int i = 0; i < n; i++)
+            {
+                int row = i * stride;
+                double xi = b[i] / r[row + i];
+                b[i] = xi;
+                GramUpdateKernels.Axpy(-xi, r.Slice(row + i + 1, n - i - 1), b.Slice(i + 1, n - i - 1));
+            }
+        }
+
+        /// <summary>‖v‖₂: the plain sum of squares when it is safely inside the normal range (2⁻⁹⁶⁰ … 2⁹⁶⁰), else the scaled two-pass form (no
+        /// spurious over- or underflow). O(n).</summary>
         internal static double Norm(ReadOnlySpan<double> v)
         {
+            double plain = 0.0;
+            for (int i = 0; i < v.Length; i++)
+            {
+                plain += v[i] * v[i];
+            }
+
+            if (plain >= 1.0261342003245941E-289 && plain <= 9.7453140114e+288)
+            {
+                return Math.Sqrt(plain);
+            }
+
             double scale = 0.0;
             for (int i = 0; i < v.Length; i++)
             {
