@@ -348,7 +348,7 @@ namespace OnlineRidge
                 return false;
             }
 
-            cond = Triangular.ConditionEstimate(h, q, q, new double[2 * q]);
+            cond = Triangular.ConditionEstimate(h, q, q, new double[Triangular.ConditionWorkLength(q)]);
             double condH = cond * cond;
             double limit = settings.Solver == RidgeSolver.Auto ? AutoCholeskyLimit : settings.CholeskyConditionLimit;
             if (!(condH <= limit))
@@ -499,7 +499,7 @@ namespace OnlineRidge
                 rbar = t;
             }
 
-            cond = Triangular.ConditionEstimate(rbar, q, c, new double[2 * q]);
+            cond = Triangular.ConditionEstimate(rbar, q, c, new double[Triangular.ConditionWorkLength(q)]);
             if (!(cond * tolerance < 1.0))
             {
                 int worst = 0;

@@ -186,7 +186,7 @@ namespace OnlineRidge
             rhs = new double[p];
             scale = new double[p];
             active = new int[p];
-            conditionWork = new double[2 * p];
+            conditionWork = new double[Triangular.ConditionWorkLength(p)];
             solution = new double[p];
         }
 

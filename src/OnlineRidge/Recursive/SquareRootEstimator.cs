@@ -137,7 +137,7 @@ namespace OnlineRidge
             solveRow = new double[p + 1];
             scales = new double[p];
             active = new int[p];
-            conditionWork = new double[2 * p];
+            conditionWork = new double[Triangular.ConditionWorkLength(p)];
             cachedTheta = new double[p];
         }
 
