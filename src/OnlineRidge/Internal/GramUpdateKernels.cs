@@ -74,7 +74,15 @@ namespace OnlineRidge.Internal
 #if NET
             if (Vector.IsHardwareAccelerated && stride % Vector<double>.Count == 0)
             {
-                AddRankOneVector(ref MemoryMarshal.GetReference(a), n, stride, c, cl, ref MemoryMarshal.GetReference(head));
+                if (n == 4 && Vector<double>.Count == 4)
+                {
+                    AddRankOneFour(ref MemoryMarshal.GetReference(a), c, cl, ref MemoryMarshal.GetReference(head));
+                }
+                else
+                {
+                    AddRankOneVector(ref MemoryMarshal.GetReference(a), n, stride, c, cl, ref MemoryMarshal.GetReference(head));
+                }
+
                 return;
             }
 #endif
@@ -96,34 +104,37 @@ namespace OnlineRidge.Internal
         }
 
 #if NET
+        /// <summary>
+        /// <see cref="AddRankOneSplit"/>'s body for one block (n = 4 with 256-bit vectors), without the corner: straight-line code, four row
+        /// FMAs and the column's, inlined into the caller so that the smallest update pays no call.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static void AddRankOneFour(ref double a, double c, double cl, ref double h)
+        {
+            Vector<double> h0 = Vector.LoadUnsafe(ref h);
+            ref double q0 = ref a;
+            ref double q1 = ref Unsafe.Add(ref q0, 4);
+            ref double q2 = ref Unsafe.Add(ref q0, 8);
+            ref double q3 = ref Unsafe.Add(ref q0, 12);
+            ref double q4 = ref Unsafe.Add(ref q0, 16);
+            Vector<double> v0 = MultiplyAdd(new Vector<double>(c * h0[0]), h0, Vector.LoadUnsafe(ref q0));
+            Vector<double> v1 = MultiplyAdd(new Vector<double>(c * h0[1]), h0, Vector.LoadUnsafe(ref q1));
+            Vector<double> v2 = MultiplyAdd(new Vector<double>(c * h0[2]), h0, Vector.LoadUnsafe(ref q2));
+            Vector<double> v3 = MultiplyAdd(new Vector<double>(c * h0[3]), h0, Vector.LoadUnsafe(ref q3));
+            Vector<double> v4 = MultiplyAdd(new Vector<double>(cl), h0, Vector.LoadUnsafe(ref q4));
+            v0.StoreUnsafe(ref q0);
+            v1.StoreUnsafe(ref q1);
+            v2.StoreUnsafe(ref q2);
+            v3.StoreUnsafe(ref q3);
+            v4.StoreUnsafe(ref q4);
+        }
+
         /// <summary>The vectorized body of <see cref="AddRankOneSplit"/> without the corner (lengths checked by the caller; stride a multiple of the vector length).</summary>
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
         private static void AddRankOneVector(ref double a, int n, int stride, double c, double cl, ref double h)
         {
             int w = Vector<double>.Count;
             nuint s = (nuint)stride;
-            if (n == w && w == 4)
-            {
-                // One block (p = 4 with 256-bit vectors): straight-line code, four row FMAs and the column's.
-                Vector<double> h0 = Vector.LoadUnsafe(ref h);
-                ref double q0 = ref a;
-                ref double q1 = ref Unsafe.Add(ref q0, 4);
-                ref double q2 = ref Unsafe.Add(ref q0, 8);
-                ref double q3 = ref Unsafe.Add(ref q0, 12);
-                ref double q4 = ref Unsafe.Add(ref q0, 16);
-                Vector<double> v0 = MultiplyAdd(new Vector<double>(c * h0[0]), h0, Vector.LoadUnsafe(ref q0));
-                Vector<double> v1 = MultiplyAdd(new Vector<double>(c * h0[1]), h0, Vector.LoadUnsafe(ref q1));
-                Vector<double> v2 = MultiplyAdd(new Vector<double>(c * h0[2]), h0, Vector.LoadUnsafe(ref q2));
-                Vector<double> v3 = MultiplyAdd(new Vector<double>(c * h0[3]), h0, Vector.LoadUnsafe(ref q3));
-                Vector<double> v4 = MultiplyAdd(new Vector<double>(cl), h0, Vector.LoadUnsafe(ref q4));
-                v0.StoreUnsafe(ref q0);
-                v1.StoreUnsafe(ref q1);
-                v2.StoreUnsafe(ref q2);
-                v3.StoreUnsafe(ref q3);
-                v4.StoreUnsafe(ref q4);
-                return;
-            }
-
             int i = 0;
             if (w % 4 == 0)
             {

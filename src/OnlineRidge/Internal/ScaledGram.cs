@@ -124,6 +124,29 @@ namespace OnlineRidge.Internal
             trace = newTrace;
         }
 
+        /// <summary>
+        /// <see cref="Add"/> for the common step only: c &gt; 0, implicit forgetting, no renormalization due and c/s finite, with the new trace
+        /// β·trace + c·<paramref name="norm2"/> below <see cref="OverflowLevel"/>. Then it does exactly what <see cref="Add"/> would (same
+        /// arithmetic, same bits) and returns true; otherwise it changes nothing and returns false, and the caller takes the general path.
+        /// <paramref name="head"/> has length <see cref="Stride"/> (no padding needed: d − 1 is a whole number of vectors). O(d²), no allocation.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public bool TryAddCommon(double coefficient, ReadOnlySpan<double> head, double last, double norm2)
+        {
+            double newTrace = (beta * trace) + (coefficient * norm2);
+            double next = beta * scale;
+            double c = coefficient / next;
+            if (explicitForgetting || !(newTrace < OverflowLevel) || !(next >= MinScale) || !(newTrace < next * OverflowLevel) || !(c <= double.MaxValue))
+            {
+                return false;
+            }
+
+            GramUpdateKernels.AddRankOneSplit(storage.AsSpan(start, length), n, stride, c, head, last);
+            scale = next;
+            trace = newTrace;
+            return true;
+        }
+
         /// <summary>G̃ ← 2ᵏ·G̃ exactly and returns next·2⁻ᵏ ∈ [½, 1), for a positive normal next.</summary>
         [MethodImpl(MethodImplOptions.NoInlining)]
         private double Renormalize(double next)

@@ -92,7 +92,10 @@ namespace OnlineRidge
         private readonly int headStride;
 
         /// <summary>Below this p (and when p is a whole number of vectors) the kernel reads x in place: the copy would cost more than the split loads.</summary>
-        private const int DirectHeadLimit = 16;
+        private const int DirectHeadLimit = 32;
+
+        /// <summary>No intercept, no G₂ and x read in place: <see cref="TryUpdate"/> may take its short path.</summary>
+        private readonly bool leanPath;
         private readonly double[]? model;
         private readonly int modelStart;
         private readonly double[] hessian;
@@ -181,6 +184,7 @@ namespace OnlineRidge
             }
 
             headStride = GramUpdateKernels.Stride(p);
+            leanPath = !intercept && squaredGram is null && headStride == p && p < DirectHeadLimit;
             u = GramUpdateKernels.AllocateAligned(headStride, out uStart);
             hessian = new double[p * p];
             rhs = new double[p];
@@ -269,6 +273,30 @@ namespace OnlineRidge
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+            if (leanPath)
+            {
+                // The common case in a few instructions (no intercept, no G₂, x read in place): a finite sample of positive finite weight whose
+                // step needs no renormalization. It changes exactly what the general path below would change, with the same arithmetic;
+                // anything else (a bad value, an overflow, weight 0, a renormalization) falls through to the general path, nothing changed.
+                double leanNorm = GramUpdateKernels.SquaredNorm(x) + (y * y);
+                if (leanNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddCommon(weight, x, y, leanNorm))
+                {
+                    weightSum = (beta * weightSum) + weight;
+                    DiscountedCount = (beta * DiscountedCount) + 1.0;
+                    SampleCount++;
+                    solutionValid = false;
+                    breakdown = BreakdownInfo.None;
+                    return true;
+                }
+            }
+
+            return TryUpdateGeneral(x, y, weight, out breakdown);
+        }
+
+        /// <summary>The whole of <see cref="TryUpdate"/>: every policy, the intercept and G₂ paths, overflow reports, renormalization.</summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private bool TryUpdateGeneral(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
 
             // ‖x‖² (and, without an intercept, the head the kernel reads: x itself when it is a few whole vectors, else its copy into the
             // aligned, zero-padded buffer, which keeps the O(p²) vector loads of the kernel from straddling cache lines). A finite ‖x‖² + y²

@@ -67,6 +67,50 @@ namespace OnlineRidge.Tests.Recursive
 
         }
 
+        /// <summary>
+        /// The short update path (no intercept, no G₂, p &lt; 32 a whole number of vectors) is the general path restricted to the common step,
+        /// with the same arithmetic: an estimator that also tracks G₂ (so always takes the general path) must reach bitwise the same solution,
+        /// weight sum and discounted count. β = 0.9 (a renormalization about every 210 updates), one weight in five 0, 3000 updates; p covers the one-block kernel, the blocked kernel, and a p that is not a
+        /// whole number of vectors (always the general path).
+        /// </summary>
+        [Theory]
+        [InlineData(1)]
+        [InlineData(4)]
+        [InlineData(8)]
+        [InlineData(16)]
+        [InlineData(28)]
+        [InlineData(31)]
+        public void Short_update_path_changes_exactly_what_the_general_path_changes(int p)
+        {
+            var settings = new RidgeSettings { Penalty = 0.3, ForgettingFactor = 0.9, FitIntercept = false, Standardize = false };
+            var shortPath = new InformationFormEstimator(p, settings);
+            var general = new InformationFormEstimator(p, settings, trackSquaredForgettingGram: true);
+            var random = new Random(8300 + p);
+            var a = new double[p];
+            var b = new double[p];
+            for (int n = 0; n < 3000; n++)
+            {
+                double[] x = Sample(random, p);
+                double y = x.Sum() + (0.1 * random.NextDouble());
+                double w = n % 5 == 4 ? 0.0 : 0.5 + random.NextDouble();
+                shortPath.Update(x, y, w);
+                general.Update(x, y, w);
+                if (n % 100 == 99)
+                {
+                    shortPath.CopyParametersTo(a);
+                    general.CopyParametersTo(b);
+                    for (int j = 0; j < p; j++)
+                    {
+                        Assert.True(a[j].Equals(b[j]), $"n={n} θ[{j}]: {a[j]:R} vs {b[j]:R}");
+                    }
+
+                    Assert.Equal(general.WeightSum, shortPath.WeightSum);
+                    Assert.Equal(general.DiscountedCount, shortPath.DiscountedCount);
+                    Assert.Equal(general.SampleCount, shortPath.SampleCount);
+                }
+            }
+        }
+
         /// <summary>With an intercept: the centered co-moments behind the solve match Σβⁿ⁻ⁱwᵢ(uᵢ − m)(uᵢ − m)ᵀ across renormalizations.</summary>
         [Theory]
         [InlineData(1)]
