@@ -7,9 +7,14 @@ namespace OnlineRidge.Internal
     /// <summary>
     /// The rotation chain of <see cref="ScaleAndRotateIn"/> for small orders, one method per order c = 2..8 with u in locals and
     /// every index a constant: no loops, no tails, and about half the instructions of the general loop, which matters because at small
-    /// orders the updates are bound by how many of them the processor can keep in flight. Same rotations and roundings as the textbook
-    /// form (γ = a/r, σ = t/r, every entry of the row from γ and σ, r = √(a² + t²)). A zero entry of u needs no branch: then r = √fl(a²)
-    /// = a exactly (binary floating point), γ = 1 and σ = 0, which scales the row by q exactly as skipping the column does. A column whose
+    /// orders the updates are bound by how many of them the processor can keep in flight. The textbook rotations (γ = a/r, σ = t/r,
+    /// r = √(a² + t²), every entry of the row of T and of u from γ and σ) except for the entry of u that leads the next column: it is
+    /// computed as (a·uⱼ₊₁ − uⱼ·q·Tⱼ,ⱼ₊₁)/r, its numerator formed while the root is taken, so that the latency chain from column to column
+    /// is one multiply-add, one square root and one division (the textbook order adds a multiply and two multiply-adds after the division).
+    /// It is the same quantity with a few roundings in a different order (a few ulps relative to |a·uⱼ₊₁| + |uⱼ·q·Tⱼ,ⱼ₊₁| over r, as the
+    /// textbook form); when the numerator is outside [2⁻⁹⁰⁰, 2¹⁰⁰⁰] (it could have overflowed or lost bits to underflow) or the pivot uⱼ
+    /// is zero, the textbook form is used for that entry too. A zero entry of u needs no branch in the row: then r = √fl(a²) = a exactly
+    /// (binary floating point), γ = 1 and σ = 0, which scales the row by q exactly as skipping the column does. A column whose
     /// sum of squares lies outside [10⁻²⁹⁰, 10²⁹⁰] (also a = t = 0) hands the rest of the chain to <see cref="RotateInCareful"/> before
     /// anything of that column is written.
     /// </summary>
@@ -56,6 +61,11 @@ namespace OnlineRidge.Internal
             }
         }
 
+        /// <summary>2⁻⁹⁰⁰ and 2¹⁰⁰⁰: a leading-entry numerator inside these bounds is divided by r (no overflow, no subnormal rounding), else the textbook form runs.</summary>
+        private const double LeadLow = 1.1830521861667747e-271;
+
+        private const double LeadHigh = 1.0715086071862673e+301;
+
         /// <summary>One entry pair of a rotated row: T[j,k] ← γq·T[j,k] + σ·u[k]; returns γ·u[k] − σq·T[j,k] (the new u[k]).</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private static double RotatePair(ref double tk, double uk, double gamma, double sigma, double gq, double sq)
@@ -80,6 +90,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -91,14 +103,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
 
             // Column 1.
             a = q * Unsafe.Add(ref t, 3);
@@ -137,6 +163,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -148,14 +176,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
 
             // Column 1.
@@ -167,14 +209,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 5))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 4) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 5);
+                Unsafe.Add(ref t, 5) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 5), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 5), u2, g, sg, gq, sq);
 
             // Column 2.
             a = q * Unsafe.Add(ref t, 8);
@@ -216,6 +272,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -227,14 +285,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 3), u3, g, sg, gq, sq);
 
@@ -247,14 +319,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 6))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 5) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 6);
+                Unsafe.Add(ref t, 6) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 6), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 6), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 7), u3, g, sg, gq, sq);
 
             // Column 2.
@@ -266,14 +352,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u3 − σq·T[2,3] = (a·u3 − u2·q·T[2,3])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u3, -(u2 * (q * Unsafe.Add(ref t, 11))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 10) = r;
             g = a / r;
             sg = u2 / r;
             gq = g * q;
             sq = sg * q;
+            if (u2 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 11);
+                Unsafe.Add(ref t, 11) = MultiplyAdd(gq, t0, sg * u3);
+                u3 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u3 = RotatePair(ref Unsafe.Add(ref t, 11), u3, g, sg, gq, sq);
+            }
+
             u2 = 0.0;
-            u3 = RotatePair(ref Unsafe.Add(ref t, 11), u3, g, sg, gq, sq);
 
             // Column 3.
             a = q * Unsafe.Add(ref t, 15);
@@ -318,6 +418,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -329,14 +431,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 3), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 4), u4, g, sg, gq, sq);
@@ -350,14 +466,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 7))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 6) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 7);
+                Unsafe.Add(ref t, 7) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 7), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 7), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 8), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 9), u4, g, sg, gq, sq);
 
@@ -370,14 +500,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u3 − σq·T[2,3] = (a·u3 − u2·q·T[2,3])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u3, -(u2 * (q * Unsafe.Add(ref t, 13))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 12) = r;
             g = a / r;
             sg = u2 / r;
             gq = g * q;
             sq = sg * q;
+            if (u2 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 13);
+                Unsafe.Add(ref t, 13) = MultiplyAdd(gq, t0, sg * u3);
+                u3 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u3 = RotatePair(ref Unsafe.Add(ref t, 13), u3, g, sg, gq, sq);
+            }
+
             u2 = 0.0;
-            u3 = RotatePair(ref Unsafe.Add(ref t, 13), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 14), u4, g, sg, gq, sq);
 
             // Column 3.
@@ -389,14 +533,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u4 − σq·T[3,4] = (a·u4 − u3·q·T[3,4])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u4, -(u3 * (q * Unsafe.Add(ref t, 19))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 18) = r;
             g = a / r;
             sg = u3 / r;
             gq = g * q;
             sq = sg * q;
+            if (u3 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 19);
+                Unsafe.Add(ref t, 19) = MultiplyAdd(gq, t0, sg * u4);
+                u4 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u4 = RotatePair(ref Unsafe.Add(ref t, 19), u4, g, sg, gq, sq);
+            }
+
             u3 = 0.0;
-            u4 = RotatePair(ref Unsafe.Add(ref t, 19), u4, g, sg, gq, sq);
 
             // Column 4.
             a = q * Unsafe.Add(ref t, 24);
@@ -444,6 +602,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -455,14 +615,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 3), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 4), u4, g, sg, gq, sq);
@@ -477,14 +651,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 8))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 7) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 8);
+                Unsafe.Add(ref t, 8) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 8), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 8), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 9), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 10), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 11), u5, g, sg, gq, sq);
@@ -498,14 +686,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u3 − σq·T[2,3] = (a·u3 − u2·q·T[2,3])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u3, -(u2 * (q * Unsafe.Add(ref t, 15))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 14) = r;
             g = a / r;
             sg = u2 / r;
             gq = g * q;
             sq = sg * q;
+            if (u2 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 15);
+                Unsafe.Add(ref t, 15) = MultiplyAdd(gq, t0, sg * u3);
+                u3 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u3 = RotatePair(ref Unsafe.Add(ref t, 15), u3, g, sg, gq, sq);
+            }
+
             u2 = 0.0;
-            u3 = RotatePair(ref Unsafe.Add(ref t, 15), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 16), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 17), u5, g, sg, gq, sq);
 
@@ -518,14 +720,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u4 − σq·T[3,4] = (a·u4 − u3·q·T[3,4])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u4, -(u3 * (q * Unsafe.Add(ref t, 22))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 21) = r;
             g = a / r;
             sg = u3 / r;
             gq = g * q;
             sq = sg * q;
+            if (u3 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 22);
+                Unsafe.Add(ref t, 22) = MultiplyAdd(gq, t0, sg * u4);
+                u4 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u4 = RotatePair(ref Unsafe.Add(ref t, 22), u4, g, sg, gq, sq);
+            }
+
             u3 = 0.0;
-            u4 = RotatePair(ref Unsafe.Add(ref t, 22), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 23), u5, g, sg, gq, sq);
 
             // Column 4.
@@ -537,14 +753,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u5 − σq·T[4,5] = (a·u5 − u4·q·T[4,5])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u5, -(u4 * (q * Unsafe.Add(ref t, 29))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 28) = r;
             g = a / r;
             sg = u4 / r;
             gq = g * q;
             sq = sg * q;
+            if (u4 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 29);
+                Unsafe.Add(ref t, 29) = MultiplyAdd(gq, t0, sg * u5);
+                u5 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u5 = RotatePair(ref Unsafe.Add(ref t, 29), u5, g, sg, gq, sq);
+            }
+
             u4 = 0.0;
-            u5 = RotatePair(ref Unsafe.Add(ref t, 29), u5, g, sg, gq, sq);
 
             // Column 5.
             a = q * Unsafe.Add(ref t, 35);
@@ -595,6 +825,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -606,14 +838,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 3), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 4), u4, g, sg, gq, sq);
@@ -629,14 +875,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 9))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 8) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 9);
+                Unsafe.Add(ref t, 9) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 9), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 9), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 10), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 11), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 12), u5, g, sg, gq, sq);
@@ -651,14 +911,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u3 − σq·T[2,3] = (a·u3 − u2·q·T[2,3])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u3, -(u2 * (q * Unsafe.Add(ref t, 17))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 16) = r;
             g = a / r;
             sg = u2 / r;
             gq = g * q;
             sq = sg * q;
+            if (u2 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 17);
+                Unsafe.Add(ref t, 17) = MultiplyAdd(gq, t0, sg * u3);
+                u3 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u3 = RotatePair(ref Unsafe.Add(ref t, 17), u3, g, sg, gq, sq);
+            }
+
             u2 = 0.0;
-            u3 = RotatePair(ref Unsafe.Add(ref t, 17), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 18), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 19), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 20), u6, g, sg, gq, sq);
@@ -672,14 +946,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u4 − σq·T[3,4] = (a·u4 − u3·q·T[3,4])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u4, -(u3 * (q * Unsafe.Add(ref t, 25))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 24) = r;
             g = a / r;
             sg = u3 / r;
             gq = g * q;
             sq = sg * q;
+            if (u3 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 25);
+                Unsafe.Add(ref t, 25) = MultiplyAdd(gq, t0, sg * u4);
+                u4 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u4 = RotatePair(ref Unsafe.Add(ref t, 25), u4, g, sg, gq, sq);
+            }
+
             u3 = 0.0;
-            u4 = RotatePair(ref Unsafe.Add(ref t, 25), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 26), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 27), u6, g, sg, gq, sq);
 
@@ -692,14 +980,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u5 − σq·T[4,5] = (a·u5 − u4·q·T[4,5])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u5, -(u4 * (q * Unsafe.Add(ref t, 33))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 32) = r;
             g = a / r;
             sg = u4 / r;
             gq = g * q;
             sq = sg * q;
+            if (u4 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 33);
+                Unsafe.Add(ref t, 33) = MultiplyAdd(gq, t0, sg * u5);
+                u5 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u5 = RotatePair(ref Unsafe.Add(ref t, 33), u5, g, sg, gq, sq);
+            }
+
             u4 = 0.0;
-            u5 = RotatePair(ref Unsafe.Add(ref t, 33), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 34), u6, g, sg, gq, sq);
 
             // Column 5.
@@ -711,14 +1013,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u6 − σq·T[5,6] = (a·u6 − u5·q·T[5,6])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u6, -(u5 * (q * Unsafe.Add(ref t, 41))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 40) = r;
             g = a / r;
             sg = u5 / r;
             gq = g * q;
             sq = sg * q;
+            if (u5 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 41);
+                Unsafe.Add(ref t, 41) = MultiplyAdd(gq, t0, sg * u6);
+                u6 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u6 = RotatePair(ref Unsafe.Add(ref t, 41), u6, g, sg, gq, sq);
+            }
+
             u5 = 0.0;
-            u6 = RotatePair(ref Unsafe.Add(ref t, 41), u6, g, sg, gq, sq);
 
             // Column 6.
             a = q * Unsafe.Add(ref t, 48);
@@ -772,6 +1088,8 @@ namespace OnlineRidge.Internal
             double sg;
             double gq;
             double sq;
+            double m;
+            double t0;
             int column;
 
             // Column 0.
@@ -783,14 +1101,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u1 − σq·T[0,1] = (a·u1 − u0·q·T[0,1])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u1, -(u0 * (q * Unsafe.Add(ref t, 1))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 0) = r;
             g = a / r;
             sg = u0 / r;
             gq = g * q;
             sq = sg * q;
+            if (u0 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 1);
+                Unsafe.Add(ref t, 1) = MultiplyAdd(gq, t0, sg * u1);
+                u1 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
+            }
+
             u0 = 0.0;
-            u1 = RotatePair(ref Unsafe.Add(ref t, 1), u1, g, sg, gq, sq);
             u2 = RotatePair(ref Unsafe.Add(ref t, 2), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 3), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 4), u4, g, sg, gq, sq);
@@ -807,14 +1139,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u2 − σq·T[1,2] = (a·u2 − u1·q·T[1,2])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u2, -(u1 * (q * Unsafe.Add(ref t, 10))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 9) = r;
             g = a / r;
             sg = u1 / r;
             gq = g * q;
             sq = sg * q;
+            if (u1 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 10);
+                Unsafe.Add(ref t, 10) = MultiplyAdd(gq, t0, sg * u2);
+                u2 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u2 = RotatePair(ref Unsafe.Add(ref t, 10), u2, g, sg, gq, sq);
+            }
+
             u1 = 0.0;
-            u2 = RotatePair(ref Unsafe.Add(ref t, 10), u2, g, sg, gq, sq);
             u3 = RotatePair(ref Unsafe.Add(ref t, 11), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 12), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 13), u5, g, sg, gq, sq);
@@ -830,14 +1176,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u3 − σq·T[2,3] = (a·u3 − u2·q·T[2,3])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u3, -(u2 * (q * Unsafe.Add(ref t, 19))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 18) = r;
             g = a / r;
             sg = u2 / r;
             gq = g * q;
             sq = sg * q;
+            if (u2 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 19);
+                Unsafe.Add(ref t, 19) = MultiplyAdd(gq, t0, sg * u3);
+                u3 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u3 = RotatePair(ref Unsafe.Add(ref t, 19), u3, g, sg, gq, sq);
+            }
+
             u2 = 0.0;
-            u3 = RotatePair(ref Unsafe.Add(ref t, 19), u3, g, sg, gq, sq);
             u4 = RotatePair(ref Unsafe.Add(ref t, 20), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 21), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 22), u6, g, sg, gq, sq);
@@ -852,14 +1212,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u4 − σq·T[3,4] = (a·u4 − u3·q·T[3,4])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u4, -(u3 * (q * Unsafe.Add(ref t, 28))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 27) = r;
             g = a / r;
             sg = u3 / r;
             gq = g * q;
             sq = sg * q;
+            if (u3 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 28);
+                Unsafe.Add(ref t, 28) = MultiplyAdd(gq, t0, sg * u4);
+                u4 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u4 = RotatePair(ref Unsafe.Add(ref t, 28), u4, g, sg, gq, sq);
+            }
+
             u3 = 0.0;
-            u4 = RotatePair(ref Unsafe.Add(ref t, 28), u4, g, sg, gq, sq);
             u5 = RotatePair(ref Unsafe.Add(ref t, 29), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 30), u6, g, sg, gq, sq);
             u7 = RotatePair(ref Unsafe.Add(ref t, 31), u7, g, sg, gq, sq);
@@ -873,14 +1247,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u5 − σq·T[4,5] = (a·u5 − u4·q·T[4,5])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u5, -(u4 * (q * Unsafe.Add(ref t, 37))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 36) = r;
             g = a / r;
             sg = u4 / r;
             gq = g * q;
             sq = sg * q;
+            if (u4 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 37);
+                Unsafe.Add(ref t, 37) = MultiplyAdd(gq, t0, sg * u5);
+                u5 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u5 = RotatePair(ref Unsafe.Add(ref t, 37), u5, g, sg, gq, sq);
+            }
+
             u4 = 0.0;
-            u5 = RotatePair(ref Unsafe.Add(ref t, 37), u5, g, sg, gq, sq);
             u6 = RotatePair(ref Unsafe.Add(ref t, 38), u6, g, sg, gq, sq);
             u7 = RotatePair(ref Unsafe.Add(ref t, 39), u7, g, sg, gq, sq);
 
@@ -893,14 +1281,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u6 − σq·T[5,6] = (a·u6 − u5·q·T[5,6])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u6, -(u5 * (q * Unsafe.Add(ref t, 46))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 45) = r;
             g = a / r;
             sg = u5 / r;
             gq = g * q;
             sq = sg * q;
+            if (u5 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 46);
+                Unsafe.Add(ref t, 46) = MultiplyAdd(gq, t0, sg * u6);
+                u6 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u6 = RotatePair(ref Unsafe.Add(ref t, 46), u6, g, sg, gq, sq);
+            }
+
             u5 = 0.0;
-            u6 = RotatePair(ref Unsafe.Add(ref t, 46), u6, g, sg, gq, sq);
             u7 = RotatePair(ref Unsafe.Add(ref t, 47), u7, g, sg, gq, sq);
 
             // Column 6.
@@ -912,14 +1314,28 @@ namespace OnlineRidge.Internal
                 goto Careful;
             }
 
+            // The next column's leading entry γ·u7 − σq·T[6,7] = (a·u7 − u6·q·T[6,7])/r: its numerator is formed while the root is
+            // taken and it needs one division after it, beside γ and σ, so the chain to the next column is FMA, root, division.
+            m = MultiplyAdd(a, u7, -(u6 * (q * Unsafe.Add(ref t, 55))));
             r = Math.Sqrt(s);
             Unsafe.Add(ref t, 54) = r;
             g = a / r;
             sg = u6 / r;
             gq = g * q;
             sq = sg * q;
+            if (u6 != 0.0 && Math.Abs(m) >= LeadLow && Math.Abs(m) <= LeadHigh)
+            {
+                t0 = Unsafe.Add(ref t, 55);
+                Unsafe.Add(ref t, 55) = MultiplyAdd(gq, t0, sg * u7);
+                u7 = m / r;
+            }
+            else
+            {
+                // A zero pivot (γ = 1, σ = 0 exactly: the entry stays as it is), or a numerator near the ends of the range: textbook form.
+                u7 = RotatePair(ref Unsafe.Add(ref t, 55), u7, g, sg, gq, sq);
+            }
+
             u6 = 0.0;
-            u7 = RotatePair(ref Unsafe.Add(ref t, 55), u7, g, sg, gq, sq);
 
             // Column 7.
             a = q * Unsafe.Add(ref t, 63);

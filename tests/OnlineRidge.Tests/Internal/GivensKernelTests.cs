@@ -76,6 +76,16 @@ namespace OnlineRidge.Tests.Internal
                 ut[0] = Math.ScaleB(0.75, -480);
                 CheckAgainstReference(tt, ut, c, q, 0, $"underflowing products c={c} q={q}");
 
+                // The other end: a first pivot near 2⁴⁵⁰ (its square still in the safe range) with the rest of u near 2⁶⁰⁰, so that a·u₁ in
+                // the early-pivot numerator overflows although the rotated entry γ·u₁ (about 2⁶⁰⁰) does not; the textbook form must take it,
+                // and the next column hands over to the careful path with that entry.
+                var huge = new Random(37 * c);
+                double[] th = RandomTriangle(huge, c, 0);
+                double[] uh = RandomRow(huge, c, 0, 600);
+                th[0] = Math.ScaleB(1.25, 450);
+                uh[0] = Math.ScaleB(0.75, 450);
+                CheckAgainstReference(th, uh, c, q, 0, $"overflowing products c={c} q={q}");
+
                 // An empty factor (every pivot a = 0), then one with a zero row in the middle and zeros scattered in u.
                 var rng = new Random(7 * c);
                 CheckAgainstReference(new double[c * c], RandomRow(rng, c, 0, 0), c, q, 0, $"empty c={c} q={q}");
