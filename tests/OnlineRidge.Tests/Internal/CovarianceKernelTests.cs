@@ -5,7 +5,7 @@ using Xunit;
 namespace OnlineRidge.Tests.Internal
 {
     /// <summary>
-    /// The covariance-form kernels against plain scalar references written out here, for every order p from 1 to 33: on the vector path
+    /// The covariance-form kernels against plain scalar references written out here, for every order p from 1 to 33 and 124–129: on the vector path
     /// the padded stride then runs through every mix of the 16-, 8- and 4-column blocks and both parities of the row count, and on the
     /// portable build (stride p, no pad) the same claims hold for the scalar loops. Bitwise claims are compared through the bit patterns
     /// (so −0 and +0 differ); rounded ones against the stated bound.
@@ -33,11 +33,18 @@ namespace OnlineRidge.Tests.Internal
                 data.Add(p);
             }
 
+            // Around the first stride with the extra pad (rounded order 128: stride 132 on the vector path).
+            foreach (int p in new[] { 124, 125, 128, 129 })
+            {
+                data.Add(p);
+            }
+
             return data;
         }
 
         /// <summary>
-        /// The stride is p on the portable build (which never vectorizes) and, on the vector path, p rounded up to the next multiple of 4.
+        /// The stride is p on the portable build (which never vectorizes) and, on the vector path, p rounded up to the next multiple of 4,
+        /// plus 4 when that is a multiple of 128 (no two rows a multiple of 4 KiB apart within a few rows).
         /// </summary>
         [Theory]
         [MemberData(nameof(Orders))]
@@ -49,7 +56,8 @@ namespace OnlineRidge.Tests.Internal
             int s = CovarianceKernels.Stride(p);
             if (CovarianceKernels.IsVectorized)
             {
-                Assert.True(s % 4 == 0 && s >= p && s < p + 4, $"p = {p}: stride {s}");
+                int rounded = (p + 3) / 4 * 4;
+                Assert.True(s % 4 == 0 && s == (rounded % 128 == 0 ? rounded + 4 : rounded), $"p = {p}: stride {s}");
             }
             else
             {
