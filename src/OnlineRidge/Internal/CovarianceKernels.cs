@@ -227,6 +227,54 @@ namespace OnlineRidge.Internal
         }
 
         /// <summary>
+        /// <see cref="GainStep"/> for stride 4 (order p ≤ 4), inlined into the caller: one vector of v and θ, the same operations in the same
+        /// order, so the same θ' and the same return value bit for bit. Falls back to <see cref="GainStep"/> off the vector path.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public static double GainStepFour(ReadOnlySpan<double> v, double c, ReadOnlySpan<double> theta, Span<double> thetaNext)
+        {
+#if NET
+            if (IsVectorized)
+            {
+                Vector256<double> vj = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(v.Slice(0, 4)));
+                Vector256<double> theta2 = Fma.MultiplyAdd(Vector256.Create(c), vj, Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(theta.Slice(0, 4))));
+                theta2.StoreUnsafe(ref MemoryMarshal.GetReference(thetaNext.Slice(0, 4)));
+                Vector256<double> big = Vector256.Max(Vector256<double>.Zero, vj * vj);
+                double largest = Math.Max(Math.Max(big.GetElement(0), big.GetElement(1)), Math.Max(big.GetElement(2), big.GetElement(3)));
+                double probe = Vector256.Sum(Vector256<double>.Zero + ((vj - vj) + (theta2 - theta2)));
+                return probe == 0.0 ? largest : double.NaN;
+            }
+#endif
+            return GainStep(v, c, theta, thetaNext, 4);
+        }
+
+        /// <summary>
+        /// <see cref="SmallestDowndatedDiagonal"/> for order 4 at stride 4, inlined into the caller: the four diagonal entries in one vector,
+        /// the same arithmetic, so the same value; a non-positive result (and every other order) goes to the general routine, which also
+        /// finds the index.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public static double SmallestDowndatedDiagonalFour(ReadOnlySpan<double> a, int p, ReadOnlySpan<double> t, double c, out int index)
+        {
+#if NET
+            if (IsVectorized && p == 4)
+            {
+                ref double ar = ref MemoryMarshal.GetReference(a.Slice(0, 16));
+                Vector256<double> ti = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(t.Slice(0, 4)));
+                Vector256<double> di = Vector256.Create(ar, Unsafe.Add(ref ar, 5), Unsafe.Add(ref ar, 10), Unsafe.Add(ref ar, 15));
+                Vector256<double> low = Vector256.Min(Vector256.Create(double.PositiveInfinity), Fma.MultiplyAdd(Vector256.Create(-c), ti * ti, di));
+                double rest = Math.Min(Math.Min(low.GetElement(0), low.GetElement(1)), Math.Min(low.GetElement(2), low.GetElement(3)));
+                if (rest > 0.0 && rest <= double.MaxValue)
+                {
+                    index = -1;
+                    return rest;
+                }
+            }
+#endif
+            return SmallestDowndatedDiagonal(a, 4, p, t, c, out index);
+        }
+
+        /// <summary>
         /// Smallest fl(A_ii − c·fl(tᵢ²)) over i &lt; p (computed as <see cref="MultiplyAdd"/>, the downdate's own arithmetic): the new diagonal's
         /// least entry before the downdate is applied. <paramref name="index"/> is the first index holding it when it is not positive, −1 when
         /// every entry is positive (then no search is made). The entries of A and t must be finite (the caller's overflow bound ensures it).

@@ -519,7 +519,7 @@ namespace OnlineRidge
             double gs = g * sigma;
             // θ' = θ + (g·σ·e)·u and max uⱼ²; the pad entries of u are 0 (pad columns of P̃ are 0), so the pad of θ stays 0. The downdate
             // term c·fl(uᵢuⱼ), c = g·σ, is at most c·max uⱼ² up to one rounding, covered by the slack factor.
-            double largestSquare = CovarianceKernels.GainStep(v, gs * e, theta, thetaNext, stride);
+            double largestSquare = stride == 4 ? CovarianceKernels.GainStepFour(v, gs * e, theta, thetaNext) : CovarianceKernels.GainStep(v, gs * e, theta, thetaNext, stride);
             double coefficient = gs;
             if (!(largestSquare <= SquareRangeHigh && (largestSquare >= SquareRangeLow || largestSquare == 0.0)) && !double.IsNaN(largestSquare))
             {
@@ -538,7 +538,9 @@ namespace OnlineRidge
             }
 
             // The new diagonal, computed exactly as the downdate will compute it.
-            double diagonal = CovarianceKernels.SmallestDowndatedDiagonal(covariance, stride, p, v, coefficient, out int smallestAt);
+            double diagonal = stride == 4
+                ? CovarianceKernels.SmallestDowndatedDiagonalFour(covariance, p, v, coefficient, out int smallestAt)
+                : CovarianceKernels.SmallestDowndatedDiagonal(covariance, stride, p, v, coefficient, out smallestAt);
             if (!(diagonal > 0.0))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);

@@ -227,6 +227,18 @@ namespace OnlineRidge.Tests.Internal
             AssertBits(expectedLargest, largest, $"p = {p}, max v²");
             Assert.True(separating > 0, $"p = {p}: no entry where fused and unfused differ");
             AssertTailIntact(thetaNext, s);
+            if (s == 4)
+            {
+                // The inlined variant of the small path: the same θ' and return value.
+                double[] thetaFour = Garbage(s);
+                AssertBits(largest, CovarianceKernels.GainStepFour(v, c, theta, thetaFour), $"p = {p}, four-wide max v²");
+                for (int j = 0; j < s; j++)
+                {
+                    AssertBits(thetaNext[j], thetaFour[j], $"p = {p}, four-wide θ'[{j}]");
+                }
+
+                AssertTailIntact(thetaFour, s);
+            }
         }
 
         /// <summary>
@@ -256,11 +268,20 @@ namespace OnlineRidge.Tests.Internal
                     double[] thetaBad = (double[])theta.Clone();
                     thetaBad[j] = value;
                     Assert.True(double.IsNaN(CovarianceKernels.GainStep(v, c, thetaBad, thetaNext, s)), $"p = {p}: θ[{j}] = {value}");
+                    if (s == 4)
+                    {
+                        Assert.True(double.IsNaN(CovarianceKernels.GainStepFour(vBad, c, theta, thetaNext)), $"p = {p}: four-wide, v[{j}] = {value}");
+                        Assert.True(double.IsNaN(CovarianceKernels.GainStepFour(v, c, thetaBad, thetaNext)), $"p = {p}: four-wide, θ[{j}] = {value}");
+                    }
                 }
 
                 double[] vHuge = (double[])v.Clone();
                 vHuge[j] = 1e200;
                 Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStep(vHuge, c, theta, thetaNext, s));
+                if (s == 4)
+                {
+                    Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStepFour(vHuge, c, theta, thetaNext));
+                }
             }
         }
 
@@ -548,6 +569,13 @@ namespace OnlineRidge.Tests.Internal
             double value = CovarianceKernels.SmallestDowndatedDiagonal(a, s, p, t, c, out int index);
             Assert.Equal(expectedIndex, index);
             AssertBits(expected, value, $"p = {p}, smallest at {index}");
+            if (s == 4)
+            {
+                // The inlined variant of the small path gives the same value and index.
+                double four = CovarianceKernels.SmallestDowndatedDiagonalFour(a, p, t, c, out int indexFour);
+                Assert.Equal(expectedIndex, indexFour);
+                AssertBits(expected, four, $"p = {p}, four-wide variant");
+            }
 
             double[] downdated = (double[])a.Clone();
             CovarianceKernels.RankOneDowndate(downdated, s, p, t, c);
