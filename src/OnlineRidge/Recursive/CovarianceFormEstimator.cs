@@ -334,7 +334,7 @@ namespace OnlineRidge
         /// <exception cref="ArgumentException">Caller mistakes, as for Update (never reported through the return value).</exception>
         /// <remarks>O(p²), no allocation (also when skipping).</remarks>
 #if NET
-        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization | System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
 #endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {

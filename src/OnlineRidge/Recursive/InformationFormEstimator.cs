@@ -268,7 +268,7 @@ namespace OnlineRidge
         /// non-finite weight.</exception>
         /// <remarks>O(p²), no allocation (also when skipping).</remarks>
 #if NET
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization | MethodImplOptions.AggressiveInlining)]
 #endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {

@@ -273,7 +273,7 @@ namespace OnlineRidge
         /// <exception cref="ArgumentException">Wrong length (always), or under <see cref="InvalidSamplePolicy.Throw"/> a non-finite entry or a
         /// negative or non-finite weight (caller mistakes throw, they are not reported as a status; nothing changes).</exception>
 #if NET
-        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        [MethodImpl(MethodImplOptions.AggressiveOptimization | MethodImplOptions.AggressiveInlining)]
 #endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
