@@ -13,7 +13,9 @@ namespace OnlineRidge.Internal
     /// (<see cref="Stride"/>: p rounded up to the vector width of 4 doubles when the vector path runs, p otherwise). Both triangles are
     /// stored; the pad columns hold zeros. Every row is whole vectors, so neither kernel has a scalar tail, and the rank-one downdate
     /// A ← A − c·u·uᵀ keeps A bitwise symmetric by construction: entry (i, j) becomes fl(A_ij − c·fl(u_i·u_j)) (the outer step one rounding
-    /// with FMA, two without), and fl(u_i·u_j) is the same number as fl(u_j·u_i). No square root is needed for the symmetry. No allocation; lengths are the caller's responsibility (checked in debug builds
+    /// with FMA, two without), and fl(u_i·u_j) is the same number as fl(u_j·u_i). No square root is needed for the symmetry. On processors
+    /// with AVX-512 the fused downdate-and-multiply pass takes its 16-column blocks in 512-bit vectors with the same per-column arithmetic,
+    /// so both widths give the same bits (tested on both paths). No allocation; lengths are the caller's responsibility (checked in debug builds
     /// through the span accessors of the scalar path).
     /// </summary>
     internal static class CovarianceKernels
@@ -99,12 +101,33 @@ namespace OnlineRidge.Internal
 #if NET
             if (IsVectorized)
             {
-                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)));
+                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)), HasWideVectors);
             }
 #endif
             RankOneDowndate(a, s, p, t, c);
             return Multiply(a, s, p, x, u);
         }
+
+        /// <summary>
+        /// <see cref="DowndateAndMultiply"/> without the 512-bit blocks (the path of processors without AVX-512), so that tests on an AVX-512
+        /// machine also check the 256-bit code against its theorem. Same contract and bits.
+        /// </summary>
+        internal static double DowndateAndMultiplyNarrow(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u)
+        {
+#if NET
+            if (IsVectorized)
+            {
+                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)), false);
+            }
+#endif
+            RankOneDowndate(a, s, p, t, c);
+            return Multiply(a, s, p, x, u);
+        }
+
+#if NET
+        /// <summary>Whether the fused pass takes its 16-column blocks in 512-bit vectors (AVX-512 present and reported fast by the runtime).</summary>
+        internal static readonly bool HasWideVectors = Vector512.IsHardwareAccelerated && Avx512F.IsSupported;
+#endif
 
         /// <summary>
         /// The fixed-size projection for order p ≤ 4 (stride 4, A allocated with 4 rows whose rows p … 3 are zero): when
@@ -565,13 +588,21 @@ namespace OnlineRidge.Internal
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        private static double DowndateMultiplyVector(ref double a, int s, int p, ref double t, double coefficient, ref double x, ref double u)
+        private static double DowndateMultiplyVector(ref double a, int s, int p, ref double t, double coefficient, ref double x, ref double u, bool wide)
         {
             Vector256<double> nc = Vector256.Create(-coefficient);
             int c = 0;
             Vector256<double> q = Vector256<double>.Zero;
 
             // As MultiplyVector (same blocks, the same even/odd accumulation order, so the same bits), with each row block downdated first.
+            if (wide)
+            {
+                // The 16-column blocks in two 512-bit vectors: every lane does what the 256-bit code below does for its column (the same
+                // product, FMA and even/odd sums), and xᵀu takes the four 4-column groups in the same order, so the result has the same
+                // bits with half the instructions.
+                c = DowndateMultiplyWide(ref a, s, p, ref t, coefficient, ref x, ref u, ref q);
+            }
+
             for (; c + 16 <= s; c += 16)
             {
                 ref double tc = ref Unsafe.Add(ref t, c);
@@ -731,6 +762,71 @@ namespace OnlineRidge.Internal
             }
 
             return Vector256.Sum(q);
+        }
+
+        /// <summary>
+        /// The 16-column blocks of <see cref="DowndateMultiplyVector"/> with 512-bit vectors (AVX-512): same per-column arithmetic and the same
+        /// order of the xᵀu sum, hence the same bits. Returns the first column not yet done (a multiple of 16); <paramref name="q"/> carries
+        /// the running xᵀu lanes.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        private static int DowndateMultiplyWide(ref double a, int s, int p, ref double t, double coefficient, ref double x, ref double u, ref Vector256<double> q)
+        {
+            Vector512<double> nc = Vector512.Create(-coefficient);
+            int c = 0;
+            for (; c + 16 <= s; c += 16)
+            {
+                ref double tc = ref Unsafe.Add(ref t, c);
+                Vector512<double> t0 = Vector512.LoadUnsafe(ref tc), t1 = Vector512.LoadUnsafe(ref tc, 8);
+                Vector512<double> e0 = Vector512<double>.Zero, e1 = e0, o0 = e0, o1 = e0;
+                int j = 0;
+                for (; j + 2 <= p; j += 2)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    ref double r1 = ref Unsafe.Add(ref r0, s);
+                    Vector512<double> m0 = Vector512.Create(Unsafe.Add(ref t, j));
+                    Vector512<double> m1 = Vector512.Create(Unsafe.Add(ref t, j + 1));
+                    Vector512<double> x0 = Vector512.Create(Unsafe.Add(ref x, j));
+                    Vector512<double> x1 = Vector512.Create(Unsafe.Add(ref x, j + 1));
+                    Vector512<double> a0 = Avx512F.FusedMultiplyAdd(nc, m0 * t0, Vector512.LoadUnsafe(ref r0));
+                    Vector512<double> a1 = Avx512F.FusedMultiplyAdd(nc, m0 * t1, Vector512.LoadUnsafe(ref r0, 8));
+                    Vector512<double> b0 = Avx512F.FusedMultiplyAdd(nc, m1 * t0, Vector512.LoadUnsafe(ref r1));
+                    Vector512<double> b1 = Avx512F.FusedMultiplyAdd(nc, m1 * t1, Vector512.LoadUnsafe(ref r1, 8));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 8);
+                    b0.StoreUnsafe(ref r1);
+                    b1.StoreUnsafe(ref r1, 8);
+                    e0 = Avx512F.FusedMultiplyAdd(x0, a0, e0);
+                    e1 = Avx512F.FusedMultiplyAdd(x0, a1, e1);
+                    o0 = Avx512F.FusedMultiplyAdd(x1, b0, o0);
+                    o1 = Avx512F.FusedMultiplyAdd(x1, b1, o1);
+                }
+
+                if (j < p)
+                {
+                    ref double r0 = ref Unsafe.Add(ref a, (j * s) + c);
+                    Vector512<double> m0 = Vector512.Create(Unsafe.Add(ref t, j));
+                    Vector512<double> x0 = Vector512.Create(Unsafe.Add(ref x, j));
+                    Vector512<double> a0 = Avx512F.FusedMultiplyAdd(nc, m0 * t0, Vector512.LoadUnsafe(ref r0));
+                    Vector512<double> a1 = Avx512F.FusedMultiplyAdd(nc, m0 * t1, Vector512.LoadUnsafe(ref r0, 8));
+                    a0.StoreUnsafe(ref r0);
+                    a1.StoreUnsafe(ref r0, 8);
+                    e0 = Avx512F.FusedMultiplyAdd(x0, a0, e0);
+                    e1 = Avx512F.FusedMultiplyAdd(x0, a1, e1);
+                }
+
+                ref double uc = ref Unsafe.Add(ref u, c);
+                ref double xc = ref Unsafe.Add(ref x, c);
+                Vector512<double> u0 = e0 + o0, u1 = e1 + o1;
+                u0.StoreUnsafe(ref uc);
+                u1.StoreUnsafe(ref uc, 8);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc), u0.GetLower(), q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 4), u0.GetUpper(), q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 8), u1.GetLower(), q);
+                q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref xc, 12), u1.GetUpper(), q);
+            }
+
+            return c;
         }
 
 #if NET
