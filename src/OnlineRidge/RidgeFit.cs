@@ -115,8 +115,8 @@ namespace OnlineRidge
 
         /// <summary>
         /// Estimate of the 2-norm condition number of the weighted (centered, and scaled if standardized) design stacked with the penalty rows,
-        /// i.e. √cond(XᵀWX + λD²) in the solver's coordinates. Exact (from singular values) for the SVD solver; a power-iteration estimate
-        /// (a lower bound, usually within a few percent) otherwise. Expect to lose about log₁₀ of it in digits with QR/SVD and twice that with Cholesky.
+        /// i.e. √cond(XᵀWX + λD²) in the solver's coordinates. Exact (from singular values) for the SVD solver; otherwise a Lanczos
+        /// estimate on the triangular factor (a lower bound; the exact ratio to about 1e-9 for up to 24 coefficients, within a few percent above). Expect to lose about log₁₀ of it in digits with QR/SVD and twice that with Cholesky.
         /// </summary>
         public double ConditionEstimate { get; }
 

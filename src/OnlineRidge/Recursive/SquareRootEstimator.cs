@@ -207,7 +207,7 @@ namespace OnlineRidge
         }
 
         /// <summary>
-        /// Condition estimate (2-norm, a lower bound within a few percent) of the penalized, scaled triangular system of the last solve at the
+        /// Condition estimate (2-norm, a Lanczos lower bound: the exact ratio to about 1e-9 up to 24 columns, within a few percent above) of the penalized, scaled triangular system of the last solve at the
         /// configured penalty, √cond(R₂₂ᵀR₂₂ + μD²) in scaled coordinates; expect to lose about log₁₀ of it in digits. Solves first if needed.
         /// </summary>
         /// <exception cref="RidgeBreakdownException">The solve broke down.</exception>

@@ -193,7 +193,7 @@ namespace OnlineRidge.Tests.Batch
         /// intercept) and standardized design stacked with the penalty rows, √κ(ZᵀAZ + λI) with Z = (X − 1mᵀ)D⁻¹ (D = I without
         /// standardization; only λ &gt; 0 there, where no internal scaling is involved), computed here with MathNet's SVD. The SVD solver
         /// reports it exactly, within the singular-value perturbation bound |δs| ≤ c·ε·s₁ (Weyl; Golub and Van Loan 2013, from memory), so
-        /// relatively within 10(p + √n)ε·√κ. Power iteration (Cholesky, QR) gives a lower bound (Rayleigh quotients never exceed the
+        /// relatively within 10(p + √n)ε·√κ. The Lanczos estimate (Cholesky, QR) gives a lower bound (Ritz values never exceed the
         /// extreme singular values; for Cholesky up to the Gram-class perturbation of the formed matrix), and the documented accuracy
         /// "usually within a few percent" is checked as a factor of 2 (worst ratio seen over 3000 generated problems: 0.91).
         /// </summary>
