@@ -96,29 +96,31 @@ namespace OnlineRidge.Internal
 #if NET
         [MethodImpl(MethodImplOptions.AggressiveOptimization)]
 #endif
-        public static double DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u)
-        {
+        public static double DowndateAndMultiply(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u) =>
 #if NET
-            if (IsVectorized)
-            {
-                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)), HasWideVectors);
-            }
+            DowndateAndMultiplyCore(a, s, p, t, c, x, u, HasWideVectors);
+#else
+            DowndateAndMultiplyCore(a, s, p, t, c, x, u, false);
 #endif
-            RankOneDowndate(a, s, p, t, c);
-            return Multiply(a, s, p, x, u);
-        }
 
         /// <summary>
         /// <see cref="DowndateAndMultiply"/> without the 512-bit blocks (the path of processors without AVX-512), so that tests on an AVX-512
         /// machine also check the 256-bit code against its theorem. Same contract and bits.
         /// </summary>
-        internal static double DowndateAndMultiplyNarrow(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u)
+        internal static double DowndateAndMultiplyNarrow(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u) =>
+            DowndateAndMultiplyCore(a, s, p, t, c, x, u, false);
+
+        /// <summary>The body of both entry points; <paramref name="wide"/> allows the 512-bit blocks (vector path only).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static double DowndateAndMultiplyCore(Span<double> a, int s, int p, ReadOnlySpan<double> t, double c, ReadOnlySpan<double> x, Span<double> u, bool wide)
         {
 #if NET
             if (IsVectorized)
             {
-                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)), false);
+                return DowndateMultiplyVector(ref MemoryMarshal.GetReference(a.Slice(0, p * s)), s, p, ref MemoryMarshal.GetReference(t.Slice(0, s)), c, ref MemoryMarshal.GetReference(x.Slice(0, s)), ref MemoryMarshal.GetReference(u.Slice(0, s)), wide);
             }
+#else
+            _ = wide;
 #endif
             RankOneDowndate(a, s, p, t, c);
             return Multiply(a, s, p, x, u);
