@@ -359,6 +359,19 @@ namespace OnlineRidge
                 return true;
             }
 
+            // x is checked by the a-priori error in Step (a non-finite entry always makes xᵀθ non-finite); a bad y or weight reports x first.
+            if (!Guard.IsFinite(y) || !(weight >= 0.0) || double.IsInfinity(weight))
+            {
+                RejectSample(x, y, weight);
+            }
+
+            return Step(x, y, weight, out breakdown);
+        }
+
+        /// <summary>Throws for the first bad argument in the order x, y, weight (called when y or the weight is bad).</summary>
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining)]
+        private static void RejectSample(ReadOnlySpan<double> x, double y, double weight)
+        {
             Guard.AllFinite(x, nameof(x));
             if (!Guard.IsFinite(y))
             {
@@ -366,7 +379,6 @@ namespace OnlineRidge
             }
 
             Guard.Weight(weight, nameof(weight));
-            return Step(x, y, weight, out breakdown);
         }
 
         /// <summary>The update proper, on validated input (kept apart so that the checks and the skip path stay small).</summary>
@@ -380,6 +392,9 @@ namespace OnlineRidge
             double e = y - CovarianceKernels.Dot(x, theta);
             if (!Guard.IsFinite(e))
             {
+                // A non-finite entry of x makes one term of xᵀθ ±∞ or NaN, so it always lands here: it is the caller's mistake and is
+                // reported as such, before anything has changed. Otherwise (finite x, an overflowing product) it is a breakdown.
+                Guard.AllFinite(x, nameof(x));
                 breakdown = new BreakdownInfo(BreakdownKind.NonFinite, -1, e, double.NaN);
                 return false;
             }

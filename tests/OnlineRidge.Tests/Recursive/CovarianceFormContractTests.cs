@@ -49,7 +49,42 @@ namespace OnlineRidge.Tests.Recursive
             { new[] { 1.0, 0.0, 0.0 }, 1.0, double.NaN, "weight" },
             { new[] { 1.0, 0.0, 0.0 }, 1.0, -0.1, "weight" },
             { new[] { 1.0, 0.0, 0.0 }, 1.0, double.PositiveInfinity, "weight" },
+
+            // Several bad arguments: x is named first, then y. A weight of 0 (a pure forgetting step) still checks x.
+            { new[] { double.NaN, 0.0, 0.0 }, double.NaN, 1.0, "x" },
+            { new[] { 0.0, double.PositiveInfinity, 0.0 }, 1.0, -1.0, "x" },
+            { new[] { 0.0, 0.0, double.PositiveInfinity }, 1.0, 0.0, "x" },
+            { new[] { 1.0, 0.0, 0.0 }, double.NaN, double.NaN, "y" },
         };
+
+        /// <summary>
+        /// A non-finite entry at any position of x throws ArgumentException naming x on a fresh estimator too, where θ = 0 (so xᵀθ is
+        /// ∞·0 = NaN rather than ∞), in both update forms and with weight 1 and 0, and leaves the state unchanged.
+        /// </summary>
+        [Fact]
+        public void NonFiniteRegressorIsRejectedAtEveryPositionWithZeroParameters()
+        {
+            foreach (var form in new[] { CovarianceUpdate.Symmetric, CovarianceUpdate.JosephLike })
+            {
+                foreach (double bad in new[] { double.NaN, double.PositiveInfinity, double.NegativeInfinity })
+                {
+                    for (int j = 0; j < 5; j++)
+                    {
+                        foreach (double weight in new[] { 1.0, 0.0 })
+                        {
+                            var est = new CovarianceFormEstimator(5, new CovarianceFormSettings { Update = form });
+                            var x = new double[5];
+                            x[j] = bad;
+                            Assert.Equal("x", Assert.ThrowsAny<ArgumentException>(() => est.Update(x, 1.0, weight)).ParamName);
+                            Assert.Equal(0, est.SampleCount);
+                            var theta = new double[5];
+                            est.CopyParametersTo(theta);
+                            Assert.All(theta, t => Assert.Equal(0.0, t));
+                        }
+                    }
+                }
+            }
+        }
 
         /// <summary>Bad x, y or weight throws ArgumentException naming the parameter, before any change (compared with CopyParametersTo/CopyCovarianceTo).</summary>
         [Theory]
