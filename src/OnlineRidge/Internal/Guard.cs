@@ -101,15 +101,10 @@ namespace OnlineRidge.Internal
         /// True when the sample (x, y, w) is usable: every entry of x and y finite, w finite and ≥ 0. O(p), no allocation; the length is not
         /// checked here.
         /// </summary>
-        public static bool IsUsableSample(ReadOnlySpan<double> x, double y, double w)
-        {
-            if (!IsFinite(y) || !(w >= 0.0) || double.IsInfinity(w))
-            {
-                return false;
-            }
+        public static bool IsUsableSample(ReadOnlySpan<double> x, double y, double w) => IsUsableOutputAndWeight(y, w) && AreAllFinite(x);
 
-            return AreAllFinite(x);
-        }
+        /// <summary>True when y is finite and w is finite and ≥ 0 (the scalar part of <see cref="IsUsableSample"/>). O(1).</summary>
+        public static bool IsUsableOutputAndWeight(double y, double w) => IsFinite(y) && w >= 0.0 && !double.IsInfinity(w);
 
         /// <summary>
         /// True when every value is finite: Σ (vᵢ − vᵢ) is 0 exactly when no vᵢ is ±∞ or NaN (v − v is NaN for those), so one branch-free

@@ -360,7 +360,7 @@ namespace OnlineRidge
             }
 
             // x is checked by the a-priori error in Step (a non-finite entry always makes xᵀθ non-finite); a bad y or weight reports x first.
-            if (!Guard.IsFinite(y) || !(weight >= 0.0) || double.IsInfinity(weight))
+            if (!Guard.IsUsableOutputAndWeight(y, weight))
             {
                 RejectSample(x, y, weight);
             }
@@ -381,7 +381,7 @@ namespace OnlineRidge
             Guard.Weight(weight, nameof(weight));
         }
 
-        /// <summary>The update proper, on validated input (kept apart so that the checks and the skip path stay small).</summary>
+        /// <summary>The update proper, with y and the weight validated; x is checked here through the a-priori error (kept apart so that the checks and the skip path stay small).</summary>
 #if NET
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining | System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
 #else
