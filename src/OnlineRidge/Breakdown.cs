@@ -44,7 +44,11 @@ namespace OnlineRidge
         }
 
         /// <summary>The success value: <see cref="BreakdownKind.None"/>.</summary>
-        public static BreakdownInfo None => new(BreakdownKind.None, -1, double.NaN, double.NaN);
+        public static BreakdownInfo None
+        {
+            [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
+            get => new(BreakdownKind.None, -1, double.NaN, double.NaN);
+        }
 
         /// <summary>What broke down.</summary>
         public BreakdownKind Kind { get; }

@@ -1,5 +1,9 @@
 using System;
 using System.Runtime.CompilerServices;
+#if NET
+using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
+#endif
 
 namespace OnlineRidge.Internal
 {
@@ -146,6 +150,49 @@ namespace OnlineRidge.Internal
             trace = newTrace;
             return true;
         }
+
+#if NET
+        /// <summary>
+        /// Whether <see cref="TryAddFour"/> applies: order 5 (a head of four), 256-bit vectors with FMA, and <see cref="System.Numerics.Vector{T}"/> four
+        /// doubles wide — exactly when <see cref="GramUpdateKernels.AddRankOneSplit"/> takes its straight-line four-column body.
+        /// </summary>
+        public bool HasFourColumnHead =>
+            n == 4 && stride == 4 && Fma.IsSupported && Vector256.IsHardwareAccelerated && System.Numerics.Vector<double>.Count == 4;
+
+        /// <summary>
+        /// <see cref="TryAddCommon"/> for a head of four held in a register (only when <see cref="HasFourColumnHead"/>): the same checks, and
+        /// the same arithmetic as the four-column body of <see cref="GramUpdateKernels.AddRankOneSplit"/> (one FMA per entry, the corner as a
+        /// multiply then an add), so the same bits; no span is formed and no length is checked again. O(1) (25 entries), no allocation.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        public bool TryAddFour(double coefficient, Vector256<double> head, double last, double norm2)
+        {
+            double newTrace = (beta * trace) + (coefficient * norm2);
+            double next = beta * scale;
+            double c = coefficient / next;
+            if (explicitForgetting || !(newTrace < OverflowLevel) || !(next >= MinScale) || !(newTrace < next * OverflowLevel) || !(c <= double.MaxValue))
+            {
+                return false;
+            }
+
+            ref double a = ref storage[start];
+            double cl = c * last;
+            Unsafe.Add(ref a, 20) += cl * last;
+            Vector256<double> v0 = Fma.MultiplyAdd(Vector256.Create(c * head.GetElement(0)), head, Vector256.LoadUnsafe(ref a));
+            Vector256<double> v1 = Fma.MultiplyAdd(Vector256.Create(c * head.GetElement(1)), head, Vector256.LoadUnsafe(ref a, 4));
+            Vector256<double> v2 = Fma.MultiplyAdd(Vector256.Create(c * head.GetElement(2)), head, Vector256.LoadUnsafe(ref a, 8));
+            Vector256<double> v3 = Fma.MultiplyAdd(Vector256.Create(c * head.GetElement(3)), head, Vector256.LoadUnsafe(ref a, 12));
+            Vector256<double> v4 = Fma.MultiplyAdd(Vector256.Create(cl), head, Vector256.LoadUnsafe(ref a, 16));
+            v0.StoreUnsafe(ref a);
+            v1.StoreUnsafe(ref a, 4);
+            v2.StoreUnsafe(ref a, 8);
+            v3.StoreUnsafe(ref a, 12);
+            v4.StoreUnsafe(ref a, 16);
+            scale = next;
+            trace = newTrace;
+            return true;
+        }
+#endif
 
         /// <summary>G̃ ← 2ᵏ·G̃ exactly and returns next·2⁻ᵏ ∈ [½, 1), for a positive normal next.</summary>
         [MethodImpl(MethodImplOptions.NoInlining)]

@@ -1,6 +1,12 @@
 using System;
 using System.Collections.Generic;
 using System.IO;
+#if NET
+using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+using System.Runtime.Intrinsics.X86;
+#endif
 using OnlineRidge.Internal;
 using OnlineRidge.Persistence;
 
@@ -89,7 +95,6 @@ namespace OnlineRidge
         private readonly double deadZone;
         private double logForgettingProduct;
         private double lastForgettingFactor = double.NaN;
-        private double[] v;
         private readonly double[] gain;
 
         // P = σ·P̃: P̃ dense row-major with row stride `stride` (both triangles, zero pad columns), σ = covarianceScale. The symmetric update
@@ -97,6 +102,10 @@ namespace OnlineRidge
         // policies keep σ = 1 and write into the second buffer, so that a failed update leaves P untouched in every policy.
         private readonly int stride;
         private readonly bool inPlace;
+
+        // p = 4 on the vector path, in place, no windup protection: TryUpdate takes StepFour.
+        private readonly bool fourColumnEligible;
+        private bool fourColumnPath;
         private readonly int covarianceLength;
 
         // Both buffers start on a 64-byte boundary (pinned, net10.0 build): the fused pass's 256- and 512-bit loads and stores of P̃ then
@@ -110,6 +119,18 @@ namespace OnlineRidge
         /// <summary>P̃ (stride-padded rows, aligned).</summary>
         private Span<double> Covariance => covarianceStore.AsSpan(covarianceStart, covarianceLength);
 
+        /// <summary>θ (stride long, zero pad).</summary>
+        private Span<double> Theta => thetaPair.AsSpan(thetaAt, stride);
+
+        /// <summary>Where an update writes its candidate θ'.</summary>
+        private Span<double> ThetaNext => thetaPair.AsSpan(stride - thetaAt, stride);
+
+        /// <summary>u of the pending downdate.</summary>
+        private Span<double> Pending => vectorPair.AsSpan(pendingAt, stride);
+
+        /// <summary>Scratch for the projection v = P̃·x of the update under way.</summary>
+        private Span<double> V => vectorPair.AsSpan(stride - pendingAt, stride);
+
         /// <summary>The second buffer of the double-buffered policies (empty for the in-place update).</summary>
         private Span<double> CovarianceNext => covarianceNextStore.Length == 0 ? Span<double>.Empty : covarianceNextStore.AsSpan(covarianceNextStart, covarianceLength);
 
@@ -119,14 +140,28 @@ namespace OnlineRidge
         // The downdate P̃ ← P̃ − c·u·uᵀ (c = g·σ, u = P̃x) of the last accepted update is deferred and applied in the same pass as the next
         // update's product P̃·x (one pass over P̃ per update instead of two). While pending, P̃ stands for fl(P̃ − c·fl(uᵢuⱼ)) entry by entry;
         // readers compute those entries on the fly with the kernel's own arithmetic, so what they see is bit for bit the applied matrix.
-        private double[] pending;
+        // u of the pending downdate and the scratch for the next u, in the two halves of one array: swapping them is a change of
+        // offset, not of references (no write barrier on the update path).
+        private readonly double[] vectorPair;
+        private int pendingAt;
         private double pendingCoefficient;
         private bool hasPending;
         private readonly double[] paddedX;
-        private double[] theta;
-        private double[] thetaNext;
+        // θ and the candidate θ' of an update in the two halves of one array (accepting an update flips the offset).
+        private readonly double[] thetaPair;
+        private int thetaAt;
         private double minimumCost;
         private double lastError = double.NaN;
+
+        /// <summary>
+        /// Whether updates may take the four-column register path (p = 4, in place, no windup protection, the vector build). Tests switch it
+        /// off to compare it with the general path bit for bit; setting it true where the path does not apply leaves it off.
+        /// </summary>
+        internal bool FourColumnPathEnabled
+        {
+            get => fourColumnPath;
+            set => fourColumnPath = value && fourColumnEligible;
+        }
 
         /// <summary>Creates the estimator with P₀ = δ⁻¹·I (δ = <see cref="CovarianceFormSettings.PriorWeight"/>) and θ₀ from the settings.</summary>
         /// <param name="parameterCount">Number of regressors p ≥ 1.</param>
@@ -210,21 +245,21 @@ namespace OnlineRidge
 
             stride = CovarianceKernels.Stride(p);
             inPlace = updateForm == CovarianceUpdate.Symmetric && windupKind is WindupProtectionKind.None or WindupProtectionKind.TraceBound;
+            fourColumnEligible = inPlace && windupKind == WindupProtectionKind.None && p == 4 && stride == 4 && CovarianceKernels.IsVectorized;
+            fourColumnPath = fourColumnEligible;
             // At least four rows, so that the fixed-size path for p ≤ 4 can hold whole 4×4 blocks (rows p … 3 stay zero).
             covarianceLength = Math.Max(p, 4) * stride;
             covarianceStore = GramUpdateKernels.AllocateAligned(covarianceLength, out covarianceStart);
             covarianceNextStore = inPlace ? Array.Empty<double>() : GramUpdateKernels.AllocateAligned(covarianceLength, out covarianceNextStart);
-            theta = new double[stride];
-            thetaNext = new double[stride];
-            v = new double[stride];
+            thetaPair = new double[2 * stride];
+            vectorPair = new double[2 * stride];
             gain = new double[p];
-            pending = new double[stride];
             paddedX = new double[stride];
             if (prior is not null)
             {
                 for (int j = 0; j < p; j++)
                 {
-                    theta[j] = prior[j];
+                    thetaPair[j] = prior[j];
                 }
             }
 
@@ -365,8 +400,100 @@ namespace OnlineRidge
                 RejectSample(x, y, weight);
             }
 
+#if NET
+            if (fourColumnPath)
+            {
+                return StepFour(x, y, weight, out breakdown);
+            }
+#endif
             return Step(x, y, weight, out breakdown);
         }
+
+#if NET
+        /// <summary>
+        /// The whole update for p = 4 on the vector path (in place, no windup protection): the arithmetic of <see cref="Step"/> and
+        /// <see cref="InPlaceStep"/> at stride 4 — the same a-priori error as <see cref="CovarianceKernels.Dot"/>, the same projection as
+        /// <see cref="CovarianceKernels.ProjectSmall"/>, the same θ', bound and new diagonal as <see cref="CovarianceKernels.GainStepFour"/> and
+        /// <see cref="CovarianceKernels.SmallestDowndatedDiagonalFour"/>, so the same bits — held in four registers and written only once every
+        /// check has passed. Anything out of the ordinary (weight 0, a non-finite a-priori error, a failed check, a rescaling of u) goes to the
+        /// general path before anything has changed, which then does or refuses the update as it always has.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.NoInlining | MethodImplOptions.AggressiveOptimization)]
+        private bool StepFour(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
+            ref double xr = ref MemoryMarshal.GetReference(x);
+            ref double tr = ref thetaPair[thetaAt];
+            Vector256<double> xv = Vector256.LoadUnsafe(ref xr);
+            Vector256<double> thetaV = Vector256.LoadUnsafe(ref tr);
+            double e = y - Vector256.Sum(Fma.MultiplyAdd(xv, thetaV, Vector256<double>.Zero) + Vector256<double>.Zero);
+            if (weight == 0.0 || !Guard.IsFinite(e))
+            {
+                return Step(x, y, weight, out breakdown);
+            }
+
+            ref double ar = ref covarianceStore[covarianceStart];
+            Vector256<double> r0 = Vector256.LoadUnsafe(ref ar);
+            Vector256<double> r1 = Vector256.LoadUnsafe(ref ar, 4);
+            Vector256<double> r2 = Vector256.LoadUnsafe(ref ar, 8);
+            Vector256<double> r3 = Vector256.LoadUnsafe(ref ar, 12);
+            if (hasPending)
+            {
+                Vector256<double> tv = Vector256.LoadUnsafe(ref vectorPair[pendingAt]);
+                Vector256<double> nc = Vector256.Create(-pendingCoefficient);
+                r0 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(0)) * tv, r0);
+                r1 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(1)) * tv, r1);
+                r2 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(2)) * tv, r2);
+                r3 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(3)) * tv, r3);
+            }
+
+            Vector256<double> uv = Fma.MultiplyAdd(Vector256.Create(xv.GetElement(1)), r1, Vector256.Create(xv.GetElement(0)) * r0)
+                + Fma.MultiplyAdd(Vector256.Create(xv.GetElement(3)), r3, Vector256.Create(xv.GetElement(2)) * r2);
+            double sigma = covarianceScale;
+            double s = sigma * Vector256.Sum(xv * uv);
+            double d = beta + (weight * s);
+            double g = weight / d;
+            double coefficient = g * sigma;
+            Vector256<double> thetaNew = Fma.MultiplyAdd(Vector256.Create(coefficient * e), uv, thetaV);
+
+            // max uⱼ² (NaN is caught by the finiteness test beside it, so the plain max instruction serves), the finiteness of u and θ'
+            // (x − x is 0 for a finite x, NaN otherwise), and the new diagonal fl(P̃ᵢᵢ − c·fl(uᵢ²)) with the downdate's own FMA.
+            Vector256<double> squares = uv * uv;
+            Vector128<double> half = Vector128.MaxNative(squares.GetLower(), squares.GetUpper());
+            double largestSquare = Math.Max(half.ToScalar(), half.GetElement(1));
+            Vector256<double> finite = Vector256.Equals((uv - uv) + (thetaNew - thetaNew), Vector256<double>.Zero);
+            Vector256<double> diagonal = Fma.MultiplyAdd(Vector256.Create(-coefficient), squares,
+                Vector256.Create(r0.GetElement(0), r1.GetElement(1), r2.GetElement(2), r3.GetElement(3)));
+            Vector256<double> positive = Vector256.GreaterThan(diagonal, Vector256<double>.Zero) & Vector256.LessThanOrEqual(diagonal, Vector256.Create(double.MaxValue));
+            double largest = coefficient * largestSquare * BoundSlack;
+            double newCost = beta * (minimumCost + (g * e * e));
+            double sigmaNext = sigma / beta;
+            double bound = covarianceBound + largest;
+            if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d)
+                || (finite & positive).ExtractMostSignificantBits() != 0xF
+                || !(largestSquare <= SquareRangeHigh && (largestSquare >= SquareRangeLow || largestSquare == 0.0))
+                || !Guard.IsFinite(largest) || !Guard.IsFinite(newCost) || !(coefficient > 0.0)
+                || !(bound * sigmaNext < OverflowLimit))
+            {
+                return InPlaceStep(x, weight, e, beta, logBeta, out breakdown);
+            }
+
+            r0.StoreUnsafe(ref ar);
+            r1.StoreUnsafe(ref ar, 4);
+            r2.StoreUnsafe(ref ar, 8);
+            r3.StoreUnsafe(ref ar, 12);
+            pendingAt = 4 - pendingAt;
+            uv.StoreUnsafe(ref vectorPair[pendingAt]);
+            pendingCoefficient = coefficient;
+            hasPending = true;
+            thetaNew.StoreUnsafe(ref tr);
+            covarianceBound = bound;
+            covarianceScale = sigmaNext;
+            minimumCost = newCost;
+            CommitInPlace(e, beta, logBeta);
+            breakdown = BreakdownInfo.None;
+            return true;
+        }
+#endif
 
         /// <summary>Throws for the first bad argument in the order x, y, weight (called when y or the weight is bad).</summary>
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining)]
@@ -389,7 +516,7 @@ namespace OnlineRidge
 #endif
         private bool Step(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
-            double e = y - CovarianceKernels.Dot(x, theta);
+            double e = y - CovarianceKernels.Dot(x, Theta);
             if (!Guard.IsFinite(e))
             {
                 // A non-finite entry of x makes one term of xᵀθ ±∞ or NaN, so it always lands here: it is the caller's mistake and is
@@ -434,14 +561,14 @@ namespace OnlineRidge
             if (weight == 0.0)
             {
                 // Pure forgetting step: θ unchanged, P ← P/β, J* ← β J*.
-                code = RecursiveKernels.CovarianceUpdate(Covariance, CovarianceNext, p, 0.0, v, factor, out failIndex, out failValue, stride);
+                code = RecursiveKernels.CovarianceUpdate(Covariance, CovarianceNext, p, 0.0, V, factor, out failIndex, out failValue, stride);
                 newCost = factor * minimumCost;
-                theta.AsSpan(0, p).CopyTo(thetaNext);
+                Theta.Slice(0, p).CopyTo(ThetaNext);
             }
             else
             {
                 x.CopyTo(paddedX);
-                double s = CovarianceKernels.Multiply(Covariance, stride, p, paddedX, v);
+                double s = CovarianceKernels.Multiply(Covariance, stride, p, paddedX, V);
                 double d = factor + (weight * s);
                 if (!(s >= 0.0) || !(d > 0.0) || double.IsInfinity(d))
                 {
@@ -450,6 +577,7 @@ namespace OnlineRidge
                 }
 
                 double g = weight / d;
+                Span<double> v = V, theta = Theta, thetaNext = ThetaNext;
                 for (int j = 0; j < p; j++)
                 {
                     double kj = g * v[j];
@@ -457,9 +585,9 @@ namespace OnlineRidge
                     thetaNext[j] = theta[j] + (kj * e);
                 }
 
-                code = RecursiveKernels.JosephUpdate(Covariance, CovarianceNext, p, gain, v, d / weight, factor, out failIndex, out failValue, stride);
+                code = RecursiveKernels.JosephUpdate(Covariance, CovarianceNext, p, gain, V, d / weight, factor, out failIndex, out failValue, stride);
                 newCost = factor * (minimumCost + (weight * e * e / d));
-                if (code == 0 && !(AllFinite(thetaNext) && Guard.IsFinite(newCost)))
+                if (code == 0 && !(AllFinite(ThetaNext) && Guard.IsFinite(newCost)))
                 {
                     code = 1;
                     failIndex = -1;
@@ -517,7 +645,7 @@ namespace OnlineRidge
             double projection;
             if (stride == 4 && CovarianceKernels.IsVectorized)
             {
-                projection = CovarianceKernels.ProjectSmall(Covariance, p, hasPending, pending, pendingCoefficient, x, v);
+                projection = CovarianceKernels.ProjectSmall(Covariance, p, hasPending, Pending, pendingCoefficient, x, V);
             }
             else
             {
@@ -530,8 +658,8 @@ namespace OnlineRidge
                 }
 
                 projection = hasPending
-                    ? CovarianceKernels.DowndateAndMultiply(Covariance, stride, p, pending, pendingCoefficient, xs, v)
-                    : CovarianceKernels.Multiply(Covariance, stride, p, xs, v);
+                    ? CovarianceKernels.DowndateAndMultiply(Covariance, stride, p, Pending, pendingCoefficient, xs, V)
+                    : CovarianceKernels.Multiply(Covariance, stride, p, xs, V);
             }
 
             hasPending = false;
@@ -547,7 +675,7 @@ namespace OnlineRidge
             double gs = g * sigma;
             // θ' = θ + (g·σ·e)·u and max uⱼ²; the pad entries of u are 0 (pad columns of P̃ are 0), so the pad of θ stays 0. The downdate
             // term c·fl(uᵢuⱼ), c = g·σ, is at most c·max uⱼ² up to one rounding, covered by the slack factor.
-            double largestSquare = stride == 4 ? CovarianceKernels.GainStepFour(v, gs * e, theta, thetaNext) : CovarianceKernels.GainStep(v, gs * e, theta, thetaNext, stride);
+            double largestSquare = stride == 4 ? CovarianceKernels.GainStepFour(V, gs * e, Theta, ThetaNext) : CovarianceKernels.GainStep(V, gs * e, Theta, ThetaNext, stride);
             double coefficient = gs;
             if (!(largestSquare <= SquareRangeHigh && (largestSquare >= SquareRangeLow || largestSquare == 0.0)) && !double.IsNaN(largestSquare))
             {
@@ -567,8 +695,8 @@ namespace OnlineRidge
 
             // The new diagonal, computed exactly as the downdate will compute it.
             double diagonal = stride == 4
-                ? CovarianceKernels.SmallestDowndatedDiagonalFour(Covariance, p, v, coefficient, out int smallestAt)
-                : CovarianceKernels.SmallestDowndatedDiagonal(Covariance, stride, p, v, coefficient, out smallestAt);
+                ? CovarianceKernels.SmallestDowndatedDiagonalFour(Covariance, p, V, coefficient, out int smallestAt)
+                : CovarianceKernels.SmallestDowndatedDiagonal(Covariance, stride, p, V, coefficient, out smallestAt);
             if (!(diagonal > 0.0))
             {
                 breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);
@@ -588,13 +716,13 @@ namespace OnlineRidge
                 bound = covarianceBound + largest;
             }
 
-            (pending, v) = (v, pending);
+            pendingAt = stride - pendingAt;
             pendingCoefficient = coefficient;
             hasPending = true;
             covarianceBound = bound;
             covarianceScale = sigmaNext;
             minimumCost = newCost;
-            (theta, thetaNext) = (thetaNext, theta);
+            thetaAt = stride - thetaAt;
             CommitInPlace(e, factor, logFactor);
             breakdown = BreakdownInfo.None;
             return true;
@@ -606,6 +734,7 @@ namespace OnlineRidge
         /// </summary>
         private double RescaleProjection(ref double coefficient)
         {
+            Span<double> v = V;
             double largestAbs = 0.0;
             for (int j = 0; j < p; j++)
             {
@@ -638,7 +767,7 @@ namespace OnlineRidge
         {
             if (hasPending)
             {
-                CovarianceKernels.RankOneDowndate(Covariance, stride, p, pending, pendingCoefficient);
+                CovarianceKernels.RankOneDowndate(Covariance, stride, p, Pending, pendingCoefficient);
                 hasPending = false;
             }
         }
@@ -647,7 +776,7 @@ namespace OnlineRidge
         private double ScaledEntry(int i, int j)
         {
             double value = Covariance[(i * stride) + j];
-            return hasPending ? CovarianceKernels.MultiplyAdd(-pendingCoefficient, pending[i] * pending[j], value) : value;
+            return hasPending ? CovarianceKernels.MultiplyAdd(-pendingCoefficient, vectorPair[pendingAt + i] * vectorPair[pendingAt + j], value) : value;
         }
 
         /// <summary>tr(P) = Σᵢ fl(σ·P̃ᵢᵢ) in index order (as a reader of <see cref="CopyCovarianceTo"/> would sum it). O(p).</summary>
@@ -685,7 +814,7 @@ namespace OnlineRidge
             CovarianceKernels.Mirror(CovarianceNext, stride, p);
             (covarianceStore, covarianceNextStore) = (covarianceNextStore, covarianceStore);
             (covarianceStart, covarianceNextStart) = (covarianceNextStart, covarianceStart);
-            (theta, thetaNext) = (thetaNext, theta);
+            thetaAt = stride - thetaAt;
             lastError = e;
             lastForgettingFactor = factor;
             logForgettingProduct += logFactor;
@@ -696,7 +825,7 @@ namespace OnlineRidge
         private bool Project(ReadOnlySpan<double> x, double weight, out double s, out BreakdownInfo breakdown)
         {
             x.CopyTo(paddedX);
-            s = CovarianceKernels.Multiply(Covariance, stride, p, paddedX, v);
+            s = CovarianceKernels.Multiply(Covariance, stride, p, paddedX, V);
             double ws = weight * s;
             if (!(s >= 0.0) || double.IsInfinity(ws))
             {
@@ -713,6 +842,7 @@ namespace OnlineRidge
         /// <summary>θₙ₋₁ + g·v·e into thetaNext; false when a value is not finite.</summary>
         private bool StepParameters(double g, double e)
         {
+            Span<double> v = V, theta = Theta, thetaNext = ThetaNext;
             for (int j = 0; j < p; j++)
             {
                 thetaNext[j] = theta[j] + (g * v[j] * e);
@@ -736,7 +866,7 @@ namespace OnlineRidge
                 return false;
             }
 
-            int code = RecursiveKernels.ResettingUpdate(Covariance, CovarianceNext, p, stride, g, v, beta, resettingAddition, resettingContraction, out int failIndex, out double failValue);
+            int code = RecursiveKernels.ResettingUpdate(Covariance, CovarianceNext, p, stride, g, V, beta, resettingAddition, resettingContraction, out int failIndex, out double failValue);
             if (code != 0)
             {
                 breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
@@ -767,7 +897,7 @@ namespace OnlineRidge
             double coefficient = s > 0.0 && weight * s >= deadZone
                 ? ((mu * weight) - ((1.0 - mu) / s)) / (mu * onePlus)
                 : weight / onePlus;
-            int code = RecursiveKernels.CovarianceUpdate(Covariance, CovarianceNext, p, coefficient, v, 1.0, out int failIndex, out double failValue, stride);
+            int code = RecursiveKernels.CovarianceUpdate(Covariance, CovarianceNext, p, coefficient, V, 1.0, out int failIndex, out double failValue, stride);
             if (code != 0)
             {
                 breakdown = new BreakdownInfo(code == 1 ? BreakdownKind.NonFinite : BreakdownKind.LostDefiniteness, failIndex, failValue, double.NaN);
@@ -786,7 +916,7 @@ namespace OnlineRidge
         {
             Guard.Length(x.Length, p, nameof(x));
             Guard.AllFinite(x, nameof(x));
-            return CovarianceKernels.Dot(x, theta);
+            return CovarianceKernels.Dot(x, Theta);
         }
 
         /// <summary>Writes θₙ (θ₀ before the first update) into <paramref name="destination"/>. O(p), no allocation.</summary>
@@ -799,7 +929,7 @@ namespace OnlineRidge
                 Guard.ThrowLength(nameof(destination), destination.Length, p);
             }
 
-            theta.AsSpan(0, p).CopyTo(destination);
+            Theta.Slice(0, p).CopyTo(destination);
         }
 
         /// <summary>
@@ -855,7 +985,7 @@ namespace OnlineRidge
                 .Add("windup", settings.Windup.Kind.ToString())
                 .Add("sampleCount", SampleCount)
                 .Add("skippedSampleCount", SkippedSampleCount)
-                .Add("theta", theta.AsSpan(0, p))
+                .Add("theta", Theta.Slice(0, p))
                 .Add("covariance", PackedScaledCovariance())
                 .Add("covarianceScale", covarianceScale)
                 .Add("minimumCost", minimumCost)
@@ -963,7 +1093,7 @@ namespace OnlineRidge
             var est = SnapshotSupport.Settings(() => new CovarianceFormEstimator(p, settings, ReadOnlySpan<double>.Empty, InitialState.Restored));
             est.logForgettingProduct = logProduct;
             est.lastForgettingFactor = lastFactor;
-            theta.AsSpan().CopyTo(est.theta);
+            theta.AsSpan().CopyTo(est.Theta);
             for (int i = 0; i < p; i++)
             {
                 for (int j = i; j < p; j++)

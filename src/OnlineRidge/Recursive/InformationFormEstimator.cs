@@ -2,6 +2,10 @@ using System;
 using System.Collections.Generic;
 using System.IO;
 using System.Runtime.CompilerServices;
+#if NET
+using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
+#endif
 using MathNet.Numerics.LinearAlgebra;
 using OnlineRidge.Internal;
 using OnlineRidge.Persistence;
@@ -96,6 +100,10 @@ namespace OnlineRidge
 
         /// <summary>No intercept, no G₂ and x read in place: <see cref="TryUpdate"/> may take its short path.</summary>
         private readonly bool leanPath;
+
+        /// <summary>The short path with p = 4 held in one register (ScaledGram.TryAddFour, vector build only).</summary>
+        private readonly bool leanFourEligible;
+        private bool leanFour;
         private readonly double[]? model;
         private readonly int modelStart;
         private readonly double[] hessian;
@@ -106,6 +114,16 @@ namespace OnlineRidge
         private readonly double[] solution;
         private double solutionIntercept;
         private bool solutionValid;
+
+        /// <summary>
+        /// Whether updates may take the four-column register path (p = 4, no intercept, no G₂, the vector build). Tests switch it off to
+        /// compare it with the general path bit for bit; setting it true where the path does not apply leaves it off.
+        /// </summary>
+        internal bool FourColumnPathEnabled
+        {
+            get => leanFour;
+            set => leanFour = value && leanFourEligible;
+        }
 
         /// <summary>Creates an empty estimator.</summary>
         /// <param name="parameterCount">Number of regressors p ≥ 1 (without the intercept).</param>
@@ -185,6 +203,12 @@ namespace OnlineRidge
 
             headStride = GramUpdateKernels.Stride(p);
             leanPath = !intercept && squaredGram is null && headStride == p && p < DirectHeadLimit;
+#if NET
+            leanFourEligible = leanPath && gram!.HasFourColumnHead;
+#else
+            leanFourEligible = false;
+#endif
+            leanFour = leanFourEligible;
             u = GramUpdateKernels.AllocateAligned(headStride, out uStart);
             hessian = new double[p * p];
             rhs = new double[p];
@@ -273,6 +297,26 @@ namespace OnlineRidge
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
             Guard.Length(x.Length, p, nameof(x));
+#if NET
+            if (leanFour)
+            {
+                // The short path below for p = 4 with x in one register: the same sum of squares (the lanes of x∘x added as Vector.Sum adds
+                // them) and the same step, so the same bits.
+                Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
+                double fourNorm = Vector256.Sum(xv * xv) + (y * y);
+                if (fourNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
+                {
+                    weightSum = (beta * weightSum) + weight;
+                    DiscountedCount = (beta * DiscountedCount) + 1.0;
+                    SampleCount++;
+                    solutionValid = false;
+                    breakdown = BreakdownInfo.None;
+                    return true;
+                }
+
+                return TryUpdateGeneral(x, y, weight, out breakdown);
+            }
+#endif
             if (leanPath)
             {
                 // The common case in a few instructions (no intercept, no G₂, x read in place): a finite sample of positive finite weight whose
