@@ -675,13 +675,18 @@ namespace OnlineRidge
             double gs = g * sigma;
             // θ' = θ + (g·σ·e)·u and max uⱼ²; the pad entries of u are 0 (pad columns of P̃ are 0), so the pad of θ stays 0. The downdate
             // term c·fl(uᵢuⱼ), c = g·σ, is at most c·max uⱼ² up to one rounding, covered by the slack factor.
-            double largestSquare = stride == 4 ? CovarianceKernels.GainStepFour(V, gs * e, Theta, ThetaNext) : CovarianceKernels.GainStep(V, gs * e, Theta, ThetaNext, stride);
+            // Above stride 4 the same pass tests the new diagonal for c = g·σ (a rescaling below changes c, and the test is then redone).
+            bool diagonalPositive = false;
+            double largestSquare = stride == 4
+                ? CovarianceKernels.GainStepFour(V, gs * e, Theta, ThetaNext)
+                : CovarianceKernels.GainStep(V, gs * e, Theta, ThetaNext, stride, Covariance, p, gs, out diagonalPositive);
             double coefficient = gs;
             if (!(largestSquare <= SquareRangeHigh && (largestSquare >= SquareRangeLow || largestSquare == 0.0)) && !double.IsNaN(largestSquare))
             {
                 // uᵢuⱼ would over- or underflow although c·uᵢuⱼ need not (large or tiny P̃): scale u by 2⁻ᵏ and c by 2²ᵏ, exactly, so the
                 // downdate's products are the same numbers scaled by powers of two.
                 largestSquare = RescaleProjection(ref coefficient);
+                diagonalPositive = false;
             }
 
             double largest = coefficient * largestSquare * BoundSlack;
@@ -693,14 +698,17 @@ namespace OnlineRidge
                 return false;
             }
 
-            // The new diagonal, computed exactly as the downdate will compute it.
-            double diagonal = stride == 4
-                ? CovarianceKernels.SmallestDowndatedDiagonalFour(Covariance, p, V, coefficient, out int smallestAt)
-                : CovarianceKernels.SmallestDowndatedDiagonal(Covariance, stride, p, V, coefficient, out smallestAt);
-            if (!(diagonal > 0.0))
+            // The new diagonal, computed exactly as the downdate will compute it (already known positive from the gain pass, or searched here).
+            if (!diagonalPositive)
             {
-                breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);
-                return false;
+                double diagonal = stride == 4
+                    ? CovarianceKernels.SmallestDowndatedDiagonalFour(Covariance, p, V, coefficient, out int smallestAt)
+                    : CovarianceKernels.SmallestDowndatedDiagonal(Covariance, stride, p, V, coefficient, out smallestAt);
+                if (!(diagonal > 0.0))
+                {
+                    breakdown = new BreakdownInfo(BreakdownKind.LostDefiniteness, smallestAt, diagonal * sigmaNext, double.NaN);
+                    return false;
+                }
             }
 
             // |P̃ᵢⱼ − c·uᵢuⱼ| ≤ max|P̃| + c·max uᵢ²: when that bound (times σ) is below the limit, no entry can overflow.

@@ -229,7 +229,8 @@ namespace OnlineRidge.Tests.Internal
             v[0] = 1.0 - (1.0 / (1L << 30));
             theta[0] = 1.0;
             double[] thetaNext = Garbage(s);
-            double largest = CovarianceKernels.GainStep(v, c, theta, thetaNext, s);
+            double[] a = RandomSpd(random, p, s);
+            double largest = CovarianceKernels.GainStep(v, c, theta, thetaNext, s, a, p, 1e-3, out _);
             double expectedLargest = 0.0;
             int separating = 0;
             for (int j = 0; j < s; j++)
@@ -275,7 +276,8 @@ namespace OnlineRidge.Tests.Internal
             double[] theta = RandomVector(random, p, s);
             const double c = -1.3;
             var thetaNext = new double[s];
-            Assert.False(double.IsNaN(CovarianceKernels.GainStep(v, c, theta, thetaNext, s)), $"p = {p}: finite inputs");
+            double[] a = RandomSpd(random, p, s);
+            Assert.False(double.IsNaN(CovarianceKernels.GainStep(v, c, theta, thetaNext, s, a, p, 1e-3, out _)), $"p = {p}: finite inputs");
             double[] bad = { double.PositiveInfinity, double.NegativeInfinity, double.NaN };
             for (int j = 0; j < s; j++)
             {
@@ -283,10 +285,10 @@ namespace OnlineRidge.Tests.Internal
                 {
                     double[] vBad = (double[])v.Clone();
                     vBad[j] = value;
-                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(vBad, c, theta, thetaNext, s)), $"p = {p}: v[{j}] = {value}");
+                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(vBad, c, theta, thetaNext, s, a, p, 1e-3, out _)), $"p = {p}: v[{j}] = {value}");
                     double[] thetaBad = (double[])theta.Clone();
                     thetaBad[j] = value;
-                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(v, c, thetaBad, thetaNext, s)), $"p = {p}: θ[{j}] = {value}");
+                    Assert.True(double.IsNaN(CovarianceKernels.GainStep(v, c, thetaBad, thetaNext, s, a, p, 1e-3, out _)), $"p = {p}: θ[{j}] = {value}");
                     if (s == 4)
                     {
                         Assert.True(double.IsNaN(CovarianceKernels.GainStepFour(vBad, c, theta, thetaNext)), $"p = {p}: four-wide, v[{j}] = {value}");
@@ -296,11 +298,57 @@ namespace OnlineRidge.Tests.Internal
 
                 double[] vHuge = (double[])v.Clone();
                 vHuge[j] = 1e200;
-                Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStep(vHuge, c, theta, thetaNext, s));
+                Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStep(vHuge, c, theta, thetaNext, s, a, p, 1e-3, out _));
                 if (s == 4)
                 {
                     Assert.Equal(double.PositiveInfinity, CovarianceKernels.GainStepFour(vHuge, c, theta, thetaNext));
                 }
+            }
+        }
+
+        /// <summary>
+        /// GainStep's diagonal test says "every new diagonal fl(Aᵢᵢ − c·fl(vᵢ²)), i &lt; p, is positive" exactly when SmallestDowndatedDiagonal's
+        /// value is positive (the two must agree, since the estimator skips the search when the gain pass said yes): for all-positive
+        /// new diagonals (vᵢ² ≤ Aᵢᵢ/4, c = 0.8), and with one entry made negative (vₖ² = 2.25·Aₖₖ, c = 1) or exactly zero (Aₖₖ = 4, vₖ = 2,
+        /// c = 1) at every position k &lt; p in turn, so every lane of the vector loop and every index of the scalar tail is reached.
+        /// </summary>
+        [Theory]
+        [MemberData(nameof(Orders))]
+        public void GainStep_diagonal_test_agrees_with_the_smallest_new_diagonal(int p)
+        {
+            int s = CovarianceKernels.Stride(p);
+            var random = new Random(5450 + p);
+            double[] theta = RandomVector(random, p, s);
+            var thetaNext = new double[s];
+            double[] a = RandomSpd(random, p, s);
+            double[] v = SmallDowndate(random, a, p, s);
+            Assert.True(Agree(a, v, 0.8) > 0.0, $"p = {p}: all positive");
+            for (int k = 0; k < p; k++)
+            {
+                double[] vk = (double[])v.Clone();
+                vk[k] = 1.5 * Math.Sqrt(a[(k * s) + k]);
+                Assert.True(Agree(a, vk, 1.0) < 0.0, $"p = {p}: negative at {k}");
+
+                double[] ak = (double[])a.Clone();
+                ak[(k * s) + k] = 4.0;
+                vk[k] = 2.0;
+                for (int i = 0; i < p; i++)
+                {
+                    if (i != k)
+                    {
+                        vk[i] = 0.1 * Math.Sqrt(ak[(i * s) + i]);
+                    }
+                }
+
+                Assert.True(Agree(ak, vk, 1.0) == 0.0, $"p = {p}: zero at {k}");
+            }
+
+            double Agree(double[] matrix, double[] vector, double c)
+            {
+                double smallest = CovarianceKernels.SmallestDowndatedDiagonal(matrix, s, p, vector, c, out _);
+                CovarianceKernels.GainStep(vector, 0.25, theta, thetaNext, s, matrix, p, c, out bool positive);
+                Assert.True(positive == smallest > 0.0, $"p = {p}: gain pass says {positive}, smallest new diagonal {smallest:R}");
+                return smallest;
             }
         }
 
