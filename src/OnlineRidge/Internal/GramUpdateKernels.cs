@@ -5,6 +5,7 @@ using System.Numerics;
 using System.Runtime.CompilerServices;
 #if NET
 using System.Runtime.InteropServices;
+using System.Runtime.Intrinsics;
 using System.Runtime.Intrinsics.Arm;
 using System.Runtime.Intrinsics.X86;
 #endif
@@ -78,6 +79,10 @@ namespace OnlineRidge.Internal
                 {
                     AddRankOneFour(ref MemoryMarshal.GetReference(a), c, cl, ref MemoryMarshal.GetReference(head));
                 }
+                else if (n == 16 && stride == 16 && HasWideSixteen)
+                {
+                    AddRankOneSixteen(ref MemoryMarshal.GetReference(a), c, cl, ref MemoryMarshal.GetReference(head));
+                }
                 else
                 {
                     AddRankOneVector(ref MemoryMarshal.GetReference(a), n, stride, c, cl, ref MemoryMarshal.GetReference(head));
@@ -101,6 +106,29 @@ namespace OnlineRidge.Internal
             {
                 column[j] += cl * head[j];
             }
+        }
+
+        /// <summary>
+        /// <see cref="AddRankOneSplit"/> with the 256-bit blocks only (never the 512-bit body for n = 16): the reference a test compares the
+        /// wide body with, bit for bit. On the portable build it is <see cref="AddRankOneSplit"/> itself.
+        /// </summary>
+        internal static void AddRankOneSplitNarrow(Span<double> a, int n, int stride, double c, ReadOnlySpan<double> head, double last)
+        {
+#if NET
+            if (Vector.IsHardwareAccelerated && stride % Vector<double>.Count == 0)
+            {
+                if (a.Length < ((n + 1) * stride) + 1 || head.Length < stride || stride < n)
+                {
+                    Guard.ThrowArgument(nameof(a), "the storage or the vector is shorter than the split layout needs.");
+                }
+
+                double cl = c * last;
+                a[(n + 1) * stride] += cl * last;
+                AddRankOneVector(ref MemoryMarshal.GetReference(a), n, stride, c, cl, ref MemoryMarshal.GetReference(head));
+                return;
+            }
+#endif
+            AddRankOneSplit(a, n, stride, c, head, last);
         }
 
 #if NET
@@ -127,6 +155,60 @@ namespace OnlineRidge.Internal
             v2.StoreUnsafe(ref q2);
             v3.StoreUnsafe(ref q3);
             v4.StoreUnsafe(ref q4);
+        }
+
+        /// <summary>Whether <see cref="AddRankOneSixteen"/> runs for n = 16: 512-bit vectors reported fast, and <see cref="BlockWidth"/> 4 (so its rows are a superset of the maintained ones).</summary>
+        internal static readonly bool HasWideSixteen = Vector512.IsHardwareAccelerated && Avx512F.IsSupported && Vector<double>.Count == 4;
+
+        /// <summary>
+        /// <see cref="AddRankOneSplit"/>'s body for n = 16 (stride 16) in 512-bit vectors, without the corner: h in two registers, rows 0–7 as
+        /// two vectors each, rows 8–15 as one (columns 8–15), the column row as two — 26 load-FMA-stores instead of the 44 of the 256-bit
+        /// blocks. Each maintained entry gets the same single FMA fl((c·hᵢ)·hⱼ + Aᵢⱼ) as there, so the same bits; in rows 4–7 and 12–15 the
+        /// first vector also covers the four entries left of the maintained block, and those lanes are stored back unchanged (a blend), so
+        /// every other position keeps its bits too. Storage and h may be unaligned; h is loaded once.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+        private static void AddRankOneSixteen(ref double a, double c, double cl, ref double h)
+        {
+            Vector512<double> h0 = Vector512.LoadUnsafe(ref h);
+            Vector512<double> h1 = Vector512.LoadUnsafe(ref h, 8);
+            Vector512<double> upperHalf = Vector512.Create(0L, 0L, 0L, 0L, -1L, -1L, -1L, -1L).AsDouble();
+            for (nuint i = 0; i < 4; i++)
+            {
+                var ci = Vector512.Create(c * Unsafe.Add(ref h, i));
+                ref double row = ref Unsafe.Add(ref a, i * 16);
+                Avx512F.FusedMultiplyAdd(ci, h0, Vector512.LoadUnsafe(ref row)).StoreUnsafe(ref row);
+                Avx512F.FusedMultiplyAdd(ci, h1, Vector512.LoadUnsafe(ref row, 8)).StoreUnsafe(ref row, 8);
+            }
+
+            for (nuint i = 4; i < 8; i++)
+            {
+                var ci = Vector512.Create(c * Unsafe.Add(ref h, i));
+                ref double row = ref Unsafe.Add(ref a, i * 16);
+                Vector512<double> first = Vector512.LoadUnsafe(ref row);
+                Vector512.ConditionalSelect(upperHalf, Avx512F.FusedMultiplyAdd(ci, h0, first), first).StoreUnsafe(ref row);
+                Avx512F.FusedMultiplyAdd(ci, h1, Vector512.LoadUnsafe(ref row, 8)).StoreUnsafe(ref row, 8);
+            }
+
+            for (nuint i = 8; i < 12; i++)
+            {
+                var ci = Vector512.Create(c * Unsafe.Add(ref h, i));
+                ref double row = ref Unsafe.Add(ref a, (i * 16) + 8);
+                Avx512F.FusedMultiplyAdd(ci, h1, Vector512.LoadUnsafe(ref row)).StoreUnsafe(ref row);
+            }
+
+            for (nuint i = 12; i < 16; i++)
+            {
+                var ci = Vector512.Create(c * Unsafe.Add(ref h, i));
+                ref double row = ref Unsafe.Add(ref a, (i * 16) + 8);
+                Vector512<double> block = Vector512.LoadUnsafe(ref row);
+                Vector512.ConditionalSelect(upperHalf, Avx512F.FusedMultiplyAdd(ci, h1, block), block).StoreUnsafe(ref row);
+            }
+
+            var vl = Vector512.Create(cl);
+            ref double column = ref Unsafe.Add(ref a, 256);
+            Avx512F.FusedMultiplyAdd(vl, h0, Vector512.LoadUnsafe(ref column)).StoreUnsafe(ref column);
+            Avx512F.FusedMultiplyAdd(vl, h1, Vector512.LoadUnsafe(ref column, 8)).StoreUnsafe(ref column, 8);
         }
 
         /// <summary>The vectorized body of <see cref="AddRankOneSplit"/> without the corner (lengths checked by the caller; stride a multiple of the vector length).</summary>

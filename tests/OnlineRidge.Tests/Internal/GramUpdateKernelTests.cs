@@ -43,6 +43,33 @@ namespace OnlineRidge.Tests.Internal
             }
         }
 
+        /// <summary>
+        /// The dispatching entry (512-bit straight-line body for a head of 16 where AVX-512 is fast, the four-column body for 4) changes
+        /// exactly what the 256-bit blocks change, bit for bit at every position of the layout — maintained entries, the never-read entries
+        /// left of the diagonal, padding and corner. Three coefficients per order, one of them negative.
+        /// </summary>
+        [Theory]
+        [MemberData(nameof(Orders))]
+        public void AddRankOneSplit_equals_the_256_bit_blocks_bit_for_bit(int n)
+        {
+            var random = new Random(3100 + n);
+            int s = GramUpdateKernels.Stride(n);
+            foreach (double c in new[] { 0.37, -1.9, 3.0e-7 })
+            {
+                double[] head = new double[s];
+                RandomVector(random, n).CopyTo(head, 0);
+                double last = (random.NextDouble() * 4.0) - 2.0;
+                double[] wide = RandomVector(random, GramUpdateKernels.SplitLength(n));
+                double[] narrow = (double[])wide.Clone();
+                GramUpdateKernels.AddRankOneSplit(wide, n, s, c, head, last);
+                GramUpdateKernels.AddRankOneSplitNarrow(narrow, n, s, c, head, last);
+                for (int k = 0; k < wide.Length; k++)
+                {
+                    Assert.True(BitConverter.DoubleToInt64Bits(narrow[k]) == BitConverter.DoubleToInt64Bits(wide[k]), $"n={n}, c={c}, position {k}: {wide[k]:R} vs {narrow[k]:R}");
+                }
+            }
+        }
+
         /// <summary>Every maintained entry gets a + (c·hᵢ)·hⱼ (one or two roundings), every other position keeps its sentinel bit for bit.</summary>
         [Theory]
         [MemberData(nameof(Orders))]
