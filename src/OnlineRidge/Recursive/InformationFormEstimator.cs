@@ -275,6 +275,30 @@ namespace OnlineRidge
 #endif
         public void Update(ReadOnlySpan<double> x, double y, double weight)
         {
+#if NET
+            if (leanFour)
+            {
+                // The common p = 4 step without the out-parameter of TryUpdate (its zeroing and the success value's stores cost as much
+                // as a quarter of this step); anything else takes the checked path.
+                if (x.Length == 4 && TryFourColumnStep(x, y, weight))
+                {
+                    return;
+                }
+
+                UpdateChecked(x, y, weight);
+                return;
+            }
+#endif
+            if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
+            {
+                Guard.ThrowBreakdown(breakdown);
+            }
+        }
+
+        /// <summary><see cref="Update(ReadOnlySpan{double}, double, double)"/> through <see cref="TryUpdate"/>, throwing its breakdown.</summary>
+        [MethodImpl(MethodImplOptions.NoInlining)]
+        private void UpdateChecked(ReadOnlySpan<double> x, double y, double weight)
+        {
             if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
             {
                 Guard.ThrowBreakdown(breakdown);
@@ -300,16 +324,8 @@ namespace OnlineRidge
 #if NET
             if (leanFour)
             {
-                // The short path below for p = 4 with x in one register: the same sum of squares (the lanes of x∘x added as Vector.Sum adds
-                // them) and the same step, so the same bits.
-                Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
-                double fourNorm = Vector256.Sum(xv * xv) + (y * y);
-                if (fourNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
+                if (TryFourColumnStep(x, y, weight))
                 {
-                    weightSum = (beta * weightSum) + weight;
-                    DiscountedCount = (beta * DiscountedCount) + 1.0;
-                    SampleCount++;
-                    solutionValid = false;
                     breakdown = BreakdownInfo.None;
                     return true;
                 }
@@ -336,6 +352,30 @@ namespace OnlineRidge
 
             return TryUpdateGeneral(x, y, weight, out breakdown);
         }
+
+#if NET
+        /// <summary>
+        /// The short path below for p = 4 (x of length 4, checked by the caller) with x in one register: the same sum of squares (the lanes
+        /// of x∘x added as Vector.Sum adds them) and the same step, so the same bits. True when it took the step; false when the sample is
+        /// not the common case, and then nothing changed.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private bool TryFourColumnStep(ReadOnlySpan<double> x, double y, double weight)
+        {
+            Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
+            double fourNorm = Vector256.Sum(xv * xv) + (y * y);
+            if (fourNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
+            {
+                weightSum = (beta * weightSum) + weight;
+                DiscountedCount = (beta * DiscountedCount) + 1.0;
+                SampleCount++;
+                solutionValid = false;
+                return true;
+            }
+
+            return false;
+        }
+#endif
 
         /// <summary>The whole of <see cref="TryUpdate"/>: every policy, the intercept and G₂ paths, overflow reports, renormalization.</summary>
         [MethodImpl(MethodImplOptions.NoInlining)]

@@ -9,7 +9,7 @@ namespace OnlineRidge.Tests.Recursive
     /// At p = 4 the covariance and information forms take a register path that does the common update in one method (the general path stays
     /// for everything else). It is meant to be the general path restricted to the common step, with the same arithmetic: these tests run two
     /// estimators over the same stream, one with the path switched off, and require the same outcome of every call (accepted, refused with the
-    /// same breakdown, or the same exception) and the same state bit for bit — parameters, covariance, counters and the whole binary snapshot.
+    /// same breakdown, or the same exception; through TryUpdate and through Update, which has a shortcut of its own) and the same state bit for bit — parameters, covariance, counters and the whole binary snapshot.
     /// The streams mix ordinary samples with the cases the path hands to the general path: zero weights, non-finite values, regressors so
     /// large or small that the projection is rescaled or the statistics overflow, and heavy repeated samples that strain definiteness; β = 0.9
     /// makes the scale renormalize about every 210 updates.
@@ -98,6 +98,25 @@ namespace OnlineRidge.Tests.Recursive
             }
         }
 
+        /// <summary>Runs one Update and reports its outcome in the words of <see cref="Outcome"/> (a breakdown arrives as the exception's info).</summary>
+        private static string UpdateOutcome(Action call)
+        {
+            try
+            {
+                call();
+                return "accepted";
+            }
+            catch (RidgeBreakdownException ex)
+            {
+                BreakdownInfo info = ex.Info;
+                return $"refused {info.Kind} {info.PivotIndex} {info.PivotValue:R} {info.ConditionEstimate:R}";
+            }
+            catch (ArgumentException ex)
+            {
+                return $"{ex.GetType().Name}: {ex.Message}";
+            }
+        }
+
         private static byte[] Snapshot(Action<Stream> write)
         {
             using var stream = new MemoryStream();
@@ -123,6 +142,7 @@ namespace OnlineRidge.Tests.Recursive
             var settings = new CovarianceFormSettings { ForgettingFactor = beta, InvalidSamples = policy };
             var fast = new CovarianceFormEstimator(P, settings);
             var general = new CovarianceFormEstimator(P, settings) { FourColumnPathEnabled = false };
+            var viaUpdate = new CovarianceFormEstimator(P, settings);
             Assert.Equal(BuildInfo.HasIntrinsicKernels, fast.FourColumnPathEnabled);
             Assert.False(general.FourColumnPathEnabled);
 
@@ -138,6 +158,8 @@ namespace OnlineRidge.Tests.Recursive
                 string expected = Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info));
                 string actual = Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info));
                 Assert.True(expected == actual, $"n={n}: general '{expected}', register path '{actual}'");
+                string updated = UpdateOutcome(() => viaUpdate.Update(x, y, w));
+                Assert.True(expected == updated, $"n={n}: general '{expected}', Update '{updated}'");
                 refused += expected.StartsWith("refused", StringComparison.Ordinal) ? 1 : 0;
 
                 general.CopyParametersTo(a);
@@ -153,6 +175,7 @@ namespace OnlineRidge.Tests.Recursive
                     fast.CopyCovarianceTo(pb);
                     AssertBitwiseEqual(pa, pb, "P", n);
                     Assert.Equal(Snapshot(s => general.WriteSnapshot(s)), Snapshot(s => fast.WriteSnapshot(s)));
+                    Assert.Equal(Snapshot(s => general.WriteSnapshot(s)), Snapshot(s => viaUpdate.WriteSnapshot(s)));
                 }
             }
 
@@ -209,6 +232,7 @@ namespace OnlineRidge.Tests.Recursive
             var settings = new RidgeSettings { Penalty = 0.3, ForgettingFactor = beta, FitIntercept = false, Standardize = false };
             var fast = new InformationFormEstimator(P, settings, invalidSamples: policy);
             var general = new InformationFormEstimator(P, settings, invalidSamples: policy) { FourColumnPathEnabled = false };
+            var viaUpdate = new InformationFormEstimator(P, settings, invalidSamples: policy);
             Assert.Equal(BuildInfo.HasIntrinsicKernels, fast.FourColumnPathEnabled);
             Assert.False(general.FourColumnPathEnabled);
 
@@ -222,6 +246,8 @@ namespace OnlineRidge.Tests.Recursive
                 string expected = Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info));
                 string actual = Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info));
                 Assert.True(expected == actual, $"n={n}: general '{expected}', register path '{actual}'");
+                string updated = UpdateOutcome(() => viaUpdate.Update(x, y, w));
+                Assert.True(expected == updated, $"n={n}: general '{expected}', Update '{updated}'");
                 refused += expected.StartsWith("refused", StringComparison.Ordinal) ? 1 : 0;
                 Assert.Equal(BitConverter.DoubleToInt64Bits(general.WeightSum), BitConverter.DoubleToInt64Bits(fast.WeightSum));
                 Assert.Equal(BitConverter.DoubleToInt64Bits(general.DiscountedCount), BitConverter.DoubleToInt64Bits(fast.DiscountedCount));
@@ -235,6 +261,7 @@ namespace OnlineRidge.Tests.Recursive
                     Assert.Equal(solvedGeneral, solvedFast);
                     AssertBitwiseEqual(a, b, "θ", n);
                     Assert.Equal(Snapshot(s => general.WriteSnapshot(s)), Snapshot(s => fast.WriteSnapshot(s)));
+                    Assert.Equal(Snapshot(s => general.WriteSnapshot(s)), Snapshot(s => viaUpdate.WriteSnapshot(s)));
                 }
             }
 
