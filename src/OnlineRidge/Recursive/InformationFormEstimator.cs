@@ -278,8 +278,8 @@ namespace OnlineRidge
 #if NET
             if (leanFour)
             {
-                // The common p = 4 step without the out-parameter of TryUpdate (its zeroing and the success value's stores cost as much
-                // as a quarter of this step); anything else takes the checked path.
+                // The common p = 4 step without going through TryUpdate's out-parameter (storing the success value cost close to a tenth
+                // of this step); anything else takes the checked path.
                 if (x.Length == 4 && TryFourColumnStep(x, y, weight))
                 {
                     return;
