@@ -98,6 +98,14 @@ namespace OnlineRidge.Tests.Recursive
             }
         }
 
+        /// <summary>Asserts that the register path (through TryUpdate and through Update) did what the general path did; 1 when it was a refusal.</summary>
+        private static int SameOutcome(int n, string expected, string actual, string updated)
+        {
+            Assert.True(expected == actual, $"n={n}: general '{expected}', register path '{actual}'");
+            Assert.True(expected == updated, $"n={n}: general '{expected}', Update '{updated}'");
+            return expected.StartsWith("refused", StringComparison.Ordinal) ? 1 : 0;
+        }
+
         /// <summary>Runs one Update and reports its outcome in the words of <see cref="Outcome"/> (a breakdown arrives as the exception's info).</summary>
         private static string UpdateOutcome(Action call)
         {
@@ -155,12 +163,11 @@ namespace OnlineRidge.Tests.Recursive
             for (int n = 0; n < 4000; n++)
             {
                 (double[] x, double y, double w) = Sample(random, n);
-                string expected = Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info));
-                string actual = Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info));
-                Assert.True(expected == actual, $"n={n}: general '{expected}', register path '{actual}'");
-                string updated = UpdateOutcome(() => viaUpdate.Update(x, y, w));
-                Assert.True(expected == updated, $"n={n}: general '{expected}', Update '{updated}'");
-                refused += expected.StartsWith("refused", StringComparison.Ordinal) ? 1 : 0;
+                refused += SameOutcome(
+                    n,
+                    Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info)),
+                    Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info)),
+                    UpdateOutcome(() => viaUpdate.Update(x, y, w)));
 
                 general.CopyParametersTo(a);
                 fast.CopyParametersTo(b);
@@ -243,12 +250,11 @@ namespace OnlineRidge.Tests.Recursive
             for (int n = 0; n < 4000; n++)
             {
                 (double[] x, double y, double w) = Sample(random, n);
-                string expected = Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info));
-                string actual = Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info));
-                Assert.True(expected == actual, $"n={n}: general '{expected}', register path '{actual}'");
-                string updated = UpdateOutcome(() => viaUpdate.Update(x, y, w));
-                Assert.True(expected == updated, $"n={n}: general '{expected}', Update '{updated}'");
-                refused += expected.StartsWith("refused", StringComparison.Ordinal) ? 1 : 0;
+                refused += SameOutcome(
+                    n,
+                    Outcome(() => (general.TryUpdate(x, y, w, out BreakdownInfo info), info)),
+                    Outcome(() => (fast.TryUpdate(x, y, w, out BreakdownInfo info), info)),
+                    UpdateOutcome(() => viaUpdate.Update(x, y, w)));
                 Assert.Equal(BitConverter.DoubleToInt64Bits(general.WeightSum), BitConverter.DoubleToInt64Bits(fast.WeightSum));
                 Assert.Equal(BitConverter.DoubleToInt64Bits(general.DiscountedCount), BitConverter.DoubleToInt64Bits(fast.DiscountedCount));
                 Assert.Equal(general.SampleCount, fast.SampleCount);
