@@ -336,7 +336,7 @@ namespace OnlineRidge.Tests.Recursive
         }
 
         /// <summary>
-        /// Claim (type docs, DESIGN.md hot path): 10⁵ updates allocate 0 bytes (GC.GetAllocatedBytesForCurrentThread, after warm-up), for every
+        /// Claim (type docs, DESIGN.md hot path): 10⁵ updates allocate 0 bytes (GC.GetAllocatedBytesForCurrentThread, after as many for warm-up), for every
         /// setting combination at p = 16; reads after the first solve, solves at another penalty, predictions and merges allocate 0 bytes too.
         /// </summary>
         [Theory]
@@ -367,7 +367,10 @@ namespace OnlineRidge.Tests.Recursive
                 }
             }
 
-            Work(2000);
+            // The measured run is the second of two identical ones: the first compiles what the loop calls and the loop itself (on-stack
+            // replacement), and under a loaded test run that compilation has been seen to allocate on this thread (1–6 KB, once in many
+            // runs); the library does not. Any per-update allocation still shows in the second run.
+            Work(100_000);
             est.CopyParametersTo(theta);
             est.SolveWithPenalty(2.0, theta);
             other.Update(xs[0], ys[0]);
