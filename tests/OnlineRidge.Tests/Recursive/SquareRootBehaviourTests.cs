@@ -336,8 +336,8 @@ namespace OnlineRidge.Tests.Recursive
         }
 
         /// <summary>
-        /// Claim (type docs, DESIGN.md hot path): 10⁵ updates allocate 0 bytes (GC.GetAllocatedBytesForCurrentThread, after as many for warm-up), for every
-        /// setting combination at p = 16; reads after the first solve, solves at another penalty, predictions and merges allocate 0 bytes too.
+        /// Claim (type docs, DESIGN.md hot path): 10⁵ updates allocate 0 bytes (GC.GetAllocatedBytesForCurrentThread, after a warm-up: AllocationCount), for every
+        /// setting combination at p = 16; reads (the first after the updates solves), solves at another penalty, predictions and merges allocate 0 bytes too.
         /// </summary>
         [Theory]
         [InlineData(true, true, 0.99, 0.1)]
@@ -367,39 +367,36 @@ namespace OnlineRidge.Tests.Recursive
                 }
             }
 
-            // The measured run is the second of two identical ones: the first compiles what the loop calls and the loop itself (on-stack
-            // replacement), and under a loaded test run that compilation has been seen to allocate on this thread (1–6 KB, once in many
-            // runs); the library does not. Any per-update allocation still shows in the second run.
-            Work(100_000);
+            Work(2000);
             est.CopyParametersTo(theta);
             est.SolveWithPenalty(2.0, theta);
             other.Update(xs[0], ys[0]);
             est.Merge(other);
 
-            long start = GC.GetAllocatedBytesForCurrentThread();
-            Work(100_000);
-            long updates = GC.GetAllocatedBytesForCurrentThread() - start;
+            long updates = AllocationCount.InSteadyState(() => Work(100_000));
 
-            est.CopyParametersTo(theta); // first solve after the updates
-            start = GC.GetAllocatedBytesForCurrentThread();
             double sink = 0.0;
-            for (int i = 0; i < 1000; i++)
+            long reads = AllocationCount.InSteadyState(() =>
             {
-                est.CopyParametersTo(theta);
-                sink += est.Predict(xs[i % 100]) + est.Intercept + est.ObjectiveValue + est.ResidualSumOfSquares;
-            }
+                est.CopyParametersTo(theta); // the first read after updates solves and refreshes the cache; the others only copy
+                for (int i = 0; i < 1000; i++)
+                {
+                    est.CopyParametersTo(theta);
+                    sink += est.Predict(xs[i % 100]) + est.Intercept + est.ObjectiveValue + est.ResidualSumOfSquares;
+                }
+            });
 
-            long reads = GC.GetAllocatedBytesForCurrentThread() - start;
-            start = GC.GetAllocatedBytesForCurrentThread();
-            for (int i = 0; i < 100; i++)
+            long solves = AllocationCount.InSteadyState(() =>
             {
-                est.Update(xs[i], ys[i]);
-                sink += est.Predict(xs[i]);
-                sink += est.SolveWithPenalty(0.5 + i, theta);
-                est.Merge(other);
-            }
+                for (int i = 0; i < 100; i++)
+                {
+                    est.Update(xs[i], ys[i]);
+                    sink += est.Predict(xs[i]);
+                    sink += est.SolveWithPenalty(0.5 + i, theta);
+                    est.Merge(other);
+                }
+            });
 
-            long solves = GC.GetAllocatedBytesForCurrentThread() - start;
             Assert.True(double.IsFinite(sink));
             Assert.Equal(0, updates);
             Assert.Equal(0, reads);
