@@ -151,12 +151,7 @@ namespace OnlineRidge.Internal
             Vector256<double> r3 = Vector256.LoadUnsafe(ref ar, 12);
             if (downdate)
             {
-                Vector256<double> tv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(t.Slice(0, 4)));
-                Vector256<double> nc = Vector256.Create(-c);
-                r0 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(0)) * tv, r0);
-                r1 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(1)) * tv, r1);
-                r2 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(2)) * tv, r2);
-                r3 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(3)) * tv, r3);
+                DowndateFour(ref r0, ref r1, ref r2, ref r3, Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(t.Slice(0, 4))), c);
                 r0.StoreUnsafe(ref ar);
                 r1.StoreUnsafe(ref ar, 4);
                 r2.StoreUnsafe(ref ar, 8);
@@ -166,14 +161,48 @@ namespace OnlineRidge.Internal
             Vector256<double> xv = p == 4
                 ? Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x.Slice(0, 4)))
                 : Vector256.Create(x[0], p > 1 ? x[1] : 0.0, p > 2 ? x[2] : 0.0, 0.0);
-            Vector256<double> uv = Fma.MultiplyAdd(Vector256.Create(xv.GetElement(1)), r1, Vector256.Create(xv.GetElement(0)) * r0)
-                + Fma.MultiplyAdd(Vector256.Create(xv.GetElement(3)), r3, Vector256.Create(xv.GetElement(2)) * r2);
+            Vector256<double> uv = MultiplyFour(r0, r1, r2, r3, xv);
             uv.StoreUnsafe(ref MemoryMarshal.GetReference(u.Slice(0, 4)));
             return Vector256.Sum(xv * uv);
 #else
             throw new PlatformNotSupportedException();
 #endif
         }
+
+#if NET
+        /// <summary>
+        /// The downdate of <see cref="ProjectSmall"/> on a 4×4 block held in four registers: rᵢ ← fl(rᵢ − c·fl(tᵢ·t)), the per-entry arithmetic of
+        /// <see cref="RankOneDowndate"/>. Shared by the projection and the covariance form's p = 4 register step, so both give the same bits.
+        /// </summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        internal static void DowndateFour(ref Vector256<double> r0, ref Vector256<double> r1, ref Vector256<double> r2, ref Vector256<double> r3, Vector256<double> t, double c)
+        {
+            Vector256<double> nc = Vector256.Create(-c);
+            r0 = Fma.MultiplyAdd(nc, Vector256.Create(t.GetElement(0)) * t, r0);
+            r1 = Fma.MultiplyAdd(nc, Vector256.Create(t.GetElement(1)) * t, r1);
+            r2 = Fma.MultiplyAdd(nc, Vector256.Create(t.GetElement(2)) * t, r2);
+            r3 = Fma.MultiplyAdd(nc, Vector256.Create(t.GetElement(3)) * t, r3);
+        }
+
+        /// <summary>The product u = A·x of <see cref="ProjectSmall"/> for a symmetric 4×4 block in four registers (rows combined in the fixed order (x₀r₀ + x₁r₁) + (x₂r₂ + x₃r₃)).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        internal static Vector256<double> MultiplyFour(Vector256<double> r0, Vector256<double> r1, Vector256<double> r2, Vector256<double> r3, Vector256<double> x) =>
+            Fma.MultiplyAdd(Vector256.Create(x.GetElement(1)), r1, Vector256.Create(x.GetElement(0)) * r0)
+            + Fma.MultiplyAdd(Vector256.Create(x.GetElement(3)), r3, Vector256.Create(x.GetElement(2)) * r2);
+
+        /// <summary><see cref="Dot"/> of two vectors of length 4 held in registers: the same operations (one FMA into zero, the second accumulator added, the lanes summed), so the same bits.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        internal static double DotFour(Vector256<double> a, Vector256<double> b) =>
+            Vector256.Sum(Fma.MultiplyAdd(a, b, Vector256<double>.Zero) + Vector256<double>.Zero);
+
+        /// <summary>The largest lane of v with the plain max instruction: exact for lanes that are not NaN (callers test NaN apart).</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        internal static double LargestLane(Vector256<double> v)
+        {
+            Vector128<double> half = Vector128.MaxNative(v.GetLower(), v.GetUpper());
+            return Vector128.MaxNative(half, Vector128.Shuffle(half, Vector128.Create(1L, 0L))).ToScalar();
+        }
+#endif
 
         /// <summary>
         /// A ← A − c·t·tᵀ over rows 0 … p−1 and all s columns, entry by entry fl(A_ij − c·fl(t_i·t_j)) (<see cref="MultiplyAdd"/> of −c,
@@ -255,9 +284,7 @@ namespace OnlineRidge.Internal
                 }
 
                 diagonalPositive = positive && above.ExtractMostSignificantBits() == 0xF;
-                Vector128<double> half = Vector128.MaxNative(big.GetLower(), big.GetUpper());
-                largest = Vector128.MaxNative(half, Vector128.Shuffle(half, Vector128.Create(1L, 0L))).ToScalar();
-                return Vector256.EqualsAll(check, Vector256<double>.Zero) ? largest : double.NaN;
+                return Vector256.EqualsAll(check, Vector256<double>.Zero) ? LargestLane(big) : double.NaN;
             }
 #endif
             for (; j < s; j++)

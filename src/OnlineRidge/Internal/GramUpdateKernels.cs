@@ -77,7 +77,7 @@ namespace OnlineRidge.Internal
             {
                 if (n == 4 && Vector<double>.Count == 4)
                 {
-                    AddRankOneFour(ref MemoryMarshal.GetReference(a), c, cl, ref MemoryMarshal.GetReference(head));
+                    AddRankOneFour(ref MemoryMarshal.GetReference(a), c, cl, Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(head)));
                 }
                 else if (n == 16 && stride == 16 && HasWideSixteen)
                 {
@@ -133,28 +133,29 @@ namespace OnlineRidge.Internal
 
 #if NET
         /// <summary>
-        /// <see cref="AddRankOneSplit"/>'s body for one block (n = 4 with 256-bit vectors), without the corner: straight-line code, four row
-        /// FMAs and the column's, inlined into the caller so that the smallest update pays no call.
+        /// <see cref="AddRankOneSplit"/>'s body for one block (n = 4 with 256-bit vectors), without the corner: straight-line code, the row
+        /// factors fl(c·hᵢ) as one vector product, each broadcast by one permutation where AVX2 has it, then four row FMAs and the column's.
+        /// Inlined into its callers (the split entry and the information form's p = 4 register step), so that the smallest update pays no
+        /// call and both take the same arithmetic.
         /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        private static void AddRankOneFour(ref double a, double c, double cl, ref double h)
+        internal static void AddRankOneFour(ref double a, double c, double cl, Vector256<double> h)
         {
-            Vector<double> h0 = Vector.LoadUnsafe(ref h);
-            ref double q0 = ref a;
-            ref double q1 = ref Unsafe.Add(ref q0, 4);
-            ref double q2 = ref Unsafe.Add(ref q0, 8);
-            ref double q3 = ref Unsafe.Add(ref q0, 12);
-            ref double q4 = ref Unsafe.Add(ref q0, 16);
-            Vector<double> v0 = MultiplyAdd(new Vector<double>(c * h0[0]), h0, Vector.LoadUnsafe(ref q0));
-            Vector<double> v1 = MultiplyAdd(new Vector<double>(c * h0[1]), h0, Vector.LoadUnsafe(ref q1));
-            Vector<double> v2 = MultiplyAdd(new Vector<double>(c * h0[2]), h0, Vector.LoadUnsafe(ref q2));
-            Vector<double> v3 = MultiplyAdd(new Vector<double>(c * h0[3]), h0, Vector.LoadUnsafe(ref q3));
-            Vector<double> v4 = MultiplyAdd(new Vector<double>(cl), h0, Vector.LoadUnsafe(ref q4));
-            v0.StoreUnsafe(ref q0);
-            v1.StoreUnsafe(ref q1);
-            v2.StoreUnsafe(ref q2);
-            v3.StoreUnsafe(ref q3);
-            v4.StoreUnsafe(ref q4);
+            Vector256<double> ch = Vector256.Create(c) * h;
+            Vector256<double> c0 = Avx2.IsSupported ? Avx2.Permute4x64(ch, 0b00_00_00_00) : Vector256.Create(ch.GetElement(0));
+            Vector256<double> c1 = Avx2.IsSupported ? Avx2.Permute4x64(ch, 0b01_01_01_01) : Vector256.Create(ch.GetElement(1));
+            Vector256<double> c2 = Avx2.IsSupported ? Avx2.Permute4x64(ch, 0b10_10_10_10) : Vector256.Create(ch.GetElement(2));
+            Vector256<double> c3 = Avx2.IsSupported ? Avx2.Permute4x64(ch, 0b11_11_11_11) : Vector256.Create(ch.GetElement(3));
+            Vector256<double> v0 = MultiplyAdd(c0, h, Vector256.LoadUnsafe(ref a));
+            Vector256<double> v1 = MultiplyAdd(c1, h, Vector256.LoadUnsafe(ref a, 4));
+            Vector256<double> v2 = MultiplyAdd(c2, h, Vector256.LoadUnsafe(ref a, 8));
+            Vector256<double> v3 = MultiplyAdd(c3, h, Vector256.LoadUnsafe(ref a, 12));
+            Vector256<double> v4 = MultiplyAdd(Vector256.Create(cl), h, Vector256.LoadUnsafe(ref a, 16));
+            v0.StoreUnsafe(ref a);
+            v1.StoreUnsafe(ref a, 4);
+            v2.StoreUnsafe(ref a, 8);
+            v3.StoreUnsafe(ref a, 12);
+            v4.StoreUnsafe(ref a, 16);
         }
 
         /// <summary>Whether <see cref="AddRankOneSixteen"/> runs for n = 16: 512-bit vectors reported fast, and <see cref="BlockWidth"/> 4 (so its rows are a superset of the maintained ones).</summary>
@@ -264,6 +265,11 @@ namespace OnlineRidge.Internal
                 MultiplyAdd(vl, Vector.LoadUnsafe(ref h, j), Vector.LoadUnsafe(ref column, j)).StoreUnsafe(ref column, j);
             }
         }
+
+        /// <summary>a·b + c per lane (256-bit): fused when the hardware has FMA, else multiply then add — as the Vector&lt;T&gt; overload below.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private static Vector256<double> MultiplyAdd(Vector256<double> a, Vector256<double> b, Vector256<double> c) =>
+            Fma.IsSupported ? Fma.MultiplyAdd(a, b, c) : (a * b) + c;
 
         /// <summary>a·b + c per lane: fused (one rounding) when the hardware has FMA, else multiply then add (two roundings).</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]

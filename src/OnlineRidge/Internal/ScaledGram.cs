@@ -2,7 +2,6 @@ using System;
 using System.Runtime.CompilerServices;
 #if NET
 using System.Runtime.Intrinsics;
-using System.Runtime.Intrinsics.X86;
 #endif
 
 namespace OnlineRidge.Internal
@@ -153,19 +152,18 @@ namespace OnlineRidge.Internal
 
 #if NET
         /// <summary>
-        /// Whether <see cref="TryAddFour"/> applies: order 5 (a head of four), 256-bit vectors with FMA, and <see cref="System.Numerics.Vector{T}"/> four
-        /// doubles wide — exactly when <see cref="GramUpdateKernels.AddRankOneSplit"/> takes its straight-line four-column body.
+        /// Whether <see cref="TryAddFour"/> applies: order 5 (a head of four), implicit forgetting, and <see cref="System.Numerics.Vector{T}"/>
+        /// four doubles wide (hardware-accelerated) — exactly when <see cref="GramUpdateKernels.AddRankOneSplit"/> takes its four-column body.
         /// </summary>
         public bool HasFourColumnHead =>
-            n == 4 && stride == 4 && !explicitForgetting && Fma.IsSupported && Avx2.IsSupported && Vector256.IsHardwareAccelerated
-            && System.Numerics.Vector<double>.Count == 4;
+            n == 4 && stride == 4 && !explicitForgetting && System.Numerics.Vector.IsHardwareAccelerated && System.Numerics.Vector<double>.Count == 4;
 
         /// <summary>
         /// <see cref="TryAddCommon"/> for a head of four held in a register (only when <see cref="HasFourColumnHead"/>, which also rules out
         /// explicit forgetting): the same decisions — its check newTrace &lt; <see cref="OverflowLevel"/> is implied by newTrace &lt;
-        /// s·<see cref="OverflowLevel"/> since s ≤ 1, so it is not repeated — and the same arithmetic as the four-column body of
-        /// <see cref="GramUpdateKernels.AddRankOneSplit"/> (the row factors c·hᵢ as one vector product, then one FMA per entry; the corner as a
-        /// multiply then an add), so the same bits; no span is formed and no length is checked again. O(1) (25 entries), no allocation.
+        /// s·<see cref="OverflowLevel"/> since s ≤ 1, so it is not repeated — and the same arithmetic: the corner as a multiply then an add, the
+        /// rest through <see cref="GramUpdateKernels.AddRankOneFour"/>, the body the split entry takes; no span is formed and no length is
+        /// checked again. O(1) (25 entries), no allocation.
         /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public bool TryAddFour(double coefficient, Vector256<double> head, double last, double norm2)
@@ -181,19 +179,7 @@ namespace OnlineRidge.Internal
             ref double a = ref storage[start];
             double cl = c * last;
             Unsafe.Add(ref a, 20) += cl * last;
-
-            // fl(c·hᵢ) in one product, each lane then broadcast by one permutation.
-            Vector256<double> ch = Vector256.Create(c) * head;
-            Vector256<double> v0 = Fma.MultiplyAdd(Avx2.Permute4x64(ch, 0b00_00_00_00), head, Vector256.LoadUnsafe(ref a));
-            Vector256<double> v1 = Fma.MultiplyAdd(Avx2.Permute4x64(ch, 0b01_01_01_01), head, Vector256.LoadUnsafe(ref a, 4));
-            Vector256<double> v2 = Fma.MultiplyAdd(Avx2.Permute4x64(ch, 0b10_10_10_10), head, Vector256.LoadUnsafe(ref a, 8));
-            Vector256<double> v3 = Fma.MultiplyAdd(Avx2.Permute4x64(ch, 0b11_11_11_11), head, Vector256.LoadUnsafe(ref a, 12));
-            Vector256<double> v4 = Fma.MultiplyAdd(Vector256.Create(cl), head, Vector256.LoadUnsafe(ref a, 16));
-            v0.StoreUnsafe(ref a);
-            v1.StoreUnsafe(ref a, 4);
-            v2.StoreUnsafe(ref a, 8);
-            v3.StoreUnsafe(ref a, 12);
-            v4.StoreUnsafe(ref a, 16);
+            GramUpdateKernels.AddRankOneFour(ref a, c, cl, head);
             scale = next;
             trace = newTrace;
             return true;

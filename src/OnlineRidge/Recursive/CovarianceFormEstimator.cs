@@ -425,7 +425,7 @@ namespace OnlineRidge
             ref double tr = ref thetaPair[thetaAt];
             Vector256<double> xv = Vector256.LoadUnsafe(ref xr);
             Vector256<double> thetaV = Vector256.LoadUnsafe(ref tr);
-            double e = y - Vector256.Sum(Fma.MultiplyAdd(xv, thetaV, Vector256<double>.Zero) + Vector256<double>.Zero);
+            double e = y - CovarianceKernels.DotFour(xv, thetaV);
             if (weight == 0.0 || !Guard.IsFinite(e))
             {
                 return Step(x, y, weight, out breakdown);
@@ -438,16 +438,10 @@ namespace OnlineRidge
             Vector256<double> r3 = Vector256.LoadUnsafe(ref ar, 12);
             if (hasPending)
             {
-                Vector256<double> tv = Vector256.LoadUnsafe(ref vectorPair[pendingAt]);
-                Vector256<double> nc = Vector256.Create(-pendingCoefficient);
-                r0 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(0)) * tv, r0);
-                r1 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(1)) * tv, r1);
-                r2 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(2)) * tv, r2);
-                r3 = Fma.MultiplyAdd(nc, Vector256.Create(tv.GetElement(3)) * tv, r3);
+                CovarianceKernels.DowndateFour(ref r0, ref r1, ref r2, ref r3, Vector256.LoadUnsafe(ref vectorPair[pendingAt]), pendingCoefficient);
             }
 
-            Vector256<double> uv = Fma.MultiplyAdd(Vector256.Create(xv.GetElement(1)), r1, Vector256.Create(xv.GetElement(0)) * r0)
-                + Fma.MultiplyAdd(Vector256.Create(xv.GetElement(3)), r3, Vector256.Create(xv.GetElement(2)) * r2);
+            Vector256<double> uv = CovarianceKernels.MultiplyFour(r0, r1, r2, r3, xv);
             double sigma = covarianceScale;
             double s = sigma * Vector256.Sum(xv * uv);
             double d = beta + (weight * s);
@@ -458,12 +452,11 @@ namespace OnlineRidge
             // max uⱼ² (NaN is caught by the finiteness test beside it, so the plain max instruction serves), the finiteness of u and θ'
             // (x − x is 0 for a finite x, NaN otherwise), and the new diagonal fl(P̃ᵢᵢ − c·fl(uᵢ²)) with the downdate's own FMA.
             Vector256<double> squares = uv * uv;
-            Vector128<double> half = Vector128.MaxNative(squares.GetLower(), squares.GetUpper());
-            double largestSquare = Math.Max(half.ToScalar(), half.GetElement(1));
+            double largestSquare = CovarianceKernels.LargestLane(squares);
             Vector256<double> finite = Vector256.Equals((uv - uv) + (thetaNew - thetaNew), Vector256<double>.Zero);
             Vector256<double> diagonal = Fma.MultiplyAdd(Vector256.Create(-coefficient), squares,
                 Vector256.Create(r0.GetElement(0), r1.GetElement(1), r2.GetElement(2), r3.GetElement(3)));
-            Vector256<double> positive = Vector256.GreaterThan(diagonal, Vector256<double>.Zero) & Vector256.LessThanOrEqual(diagonal, Vector256.Create(double.MaxValue));
+            Vector256<double> positive = Vector256.GreaterThan(diagonal, Vector256<double>.Zero);
             double largest = coefficient * largestSquare * BoundSlack;
             double newCost = beta * (minimumCost + (g * e * e));
             double sigmaNext = sigma / beta;

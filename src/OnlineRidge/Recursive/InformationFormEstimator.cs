@@ -341,10 +341,7 @@ namespace OnlineRidge
                 double leanNorm = GramUpdateKernels.SquaredNorm(x) + (y * y);
                 if (leanNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddCommon(weight, x, y, leanNorm))
                 {
-                    weightSum = (beta * weightSum) + weight;
-                    DiscountedCount = (beta * DiscountedCount) + 1.0;
-                    SampleCount++;
-                    solutionValid = false;
+                    CountCommonStep(weight);
                     breakdown = BreakdownInfo.None;
                     return true;
                 }
@@ -366,16 +363,23 @@ namespace OnlineRidge
             double fourNorm = Vector256.Sum(xv * xv) + (y * y);
             if (fourNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
             {
-                weightSum = (beta * weightSum) + weight;
-                DiscountedCount = (beta * DiscountedCount) + 1.0;
-                SampleCount++;
-                solutionValid = false;
+                CountCommonStep(weight);
                 return true;
             }
 
             return false;
         }
 #endif
+
+        /// <summary>The bookkeeping of an accepted short-path step (positive weight, no intercept): weight sum, discounted count, sample count, cache.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private void CountCommonStep(double weight)
+        {
+            weightSum = (beta * weightSum) + weight;
+            DiscountedCount = (beta * DiscountedCount) + 1.0;
+            SampleCount++;
+            solutionValid = false;
+        }
 
         /// <summary>The whole of <see cref="TryUpdate"/>: every policy, the intercept and G₂ paths, overflow reports, renormalization.</summary>
         [MethodImpl(MethodImplOptions.NoInlining)]
