@@ -307,8 +307,8 @@ namespace OnlineRidge.Tests.Internal
         }
 
         /// <summary>
-        /// GainStep's diagonal test says "every new diagonal fl(Aᵢᵢ − c·fl(vᵢ²)), i &lt; p, is positive" exactly when SmallestDowndatedDiagonal's
-        /// value is positive (the two must agree, since the estimator skips the search when the gain pass said yes): for all-positive
+        /// GainStep's diagonal test says "every new diagonal fl(Aᵢᵢ − c·fl(vᵢ²)), i &lt; p, is positive" exactly when the smallest of them, by
+        /// the scalar reference written out here, is positive (the estimator skips SmallestDowndatedDiagonal's search when the gain pass says yes): for all-positive
         /// new diagonals (vᵢ² ≤ Aᵢᵢ/4, c = 0.8), and with one entry made negative (vₖ² = 2.25·Aₖₖ, c = 1) or exactly zero (Aₖₖ = 4, vₖ = 2,
         /// c = 1) at every position k &lt; p in turn, so every lane of the vector loop and every index of the scalar tail is reached.
         /// </summary>
@@ -345,7 +345,13 @@ namespace OnlineRidge.Tests.Internal
 
             double Agree(double[] matrix, double[] vector, double c)
             {
-                double smallest = CovarianceKernels.SmallestDowndatedDiagonal(matrix, s, p, vector, c, out _);
+                // The smallest new diagonal by the scalar reference (the downdate's arithmetic, written out here).
+                double smallest = double.PositiveInfinity;
+                for (int i = 0; i < p; i++)
+                {
+                    smallest = Math.Min(smallest, Reference(-c, vector[i] * vector[i], matrix[(i * s) + i]));
+                }
+
                 CovarianceKernels.GainStep(vector, 0.25, theta, thetaNext, s, matrix, p, c, out bool positive);
                 Assert.True(positive == smallest > 0.0, $"p = {p}: gain pass says {positive}, smallest new diagonal {smallest:R}");
                 return smallest;

@@ -26,7 +26,17 @@ namespace OnlineRidge.Tests.Internal
             return data;
         }
 
-        private static double[] RandomVector(Random random, int n) => Enumerable.Range(0, n).Select(_ => (random.NextDouble() * 4.0) - 2.0).ToArray();
+        /// <summary>fl(a·b + c) as the kernels compute it: fused on the vector path where the hardware has FMA, product then sum otherwise.</summary>
+        private static double Reference(double a, double b, double c)
+        {
+#if LIBRARY_NETSTANDARD
+            return (a * b) + c;
+#else
+            return System.Numerics.Vector.IsHardwareAccelerated && System.Runtime.Intrinsics.X86.Fma.IsSupported ? Math.FusedMultiplyAdd(a, b, c) : (a * b) + c;
+#endif
+        }
+
+                private static double[] RandomVector(Random random, int n) => Enumerable.Range(0, n).Select(_ => (random.NextDouble() * 4.0) - 2.0).ToArray();
 
         [Fact]
         public void Layout_rounds_to_whole_blocks()
@@ -46,7 +56,8 @@ namespace OnlineRidge.Tests.Internal
         /// <summary>
         /// The dispatching entry (512-bit straight-line body for a head of 16 where AVX-512 is fast, the four-column body for 4) changes
         /// exactly what the 256-bit blocks change, bit for bit at every position of the layout — maintained entries, the never-read entries
-        /// left of the diagonal, padding and corner. Three coefficients per order, one of them negative.
+        /// left of the diagonal, padding and corner — and both equal the scalar reference written out here (one fused multiply-add per
+        /// maintained entry on the vector path with FMA, a product then a sum otherwise). Three coefficients per order, one of them negative.
         /// </summary>
         [Theory]
         [MemberData(nameof(Orders))]
@@ -61,12 +72,30 @@ namespace OnlineRidge.Tests.Internal
                 double last = (random.NextDouble() * 4.0) - 2.0;
                 double[] wide = RandomVector(random, GramUpdateKernels.SplitLength(n));
                 double[] narrow = (double[])wide.Clone();
+                double[] before = (double[])wide.Clone();
                 GramUpdateKernels.AddRankOneSplit(wide, n, s, c, head, last);
                 GramUpdateKernels.AddRankOneSplitNarrow(narrow, n, s, c, head, last);
                 for (int k = 0; k < wide.Length; k++)
                 {
                     Assert.True(BitConverter.DoubleToInt64Bits(narrow[k]) == BitConverter.DoubleToInt64Bits(wide[k]), $"n={n}, c={c}, position {k}: {wide[k]:R} vs {narrow[k]:R}");
                 }
+
+                // And both against the scalar reference: a maintained entry is fl((c·hᵢ)·hⱼ + a) with the kernels' rounding, the corner
+                // fl(a + fl(fl(c·ℓ)·ℓ)), every other position unchanged.
+                for (int i = 0; i <= n; i++)
+                {
+                    for (int j = 0; j < s; j++)
+                    {
+                        int at = (i * s) + j;
+                        bool maintained = i == n || j >= GramUpdateKernels.RowStart(i);
+                        double factor = i == n ? c * last : c * head[i];
+                        double expected = maintained ? Reference(factor, head[j], before[at]) : before[at];
+                        Assert.True(BitConverter.DoubleToInt64Bits(expected) == BitConverter.DoubleToInt64Bits(wide[at]), $"n={n}, c={c}, ({i},{j}): {wide[at]:R} vs reference {expected:R}");
+                    }
+                }
+
+                int corner = (n + 1) * s;
+                Assert.Equal(BitConverter.DoubleToInt64Bits(before[corner] + ((c * last) * last)), BitConverter.DoubleToInt64Bits(wide[corner]));
             }
         }
 

@@ -12,7 +12,9 @@ namespace OnlineRidge.Tests.Recursive
     /// same breakdown, or the same exception; through TryUpdate and through Update, which has a shortcut of its own) and the same state bit for bit — parameters, covariance, counters and the whole binary snapshot.
     /// The streams mix ordinary samples with the cases the path hands to the general path: zero weights, non-finite values, regressors so
     /// large or small that the projection is rescaled or the statistics overflow, and heavy repeated samples that strain definiteness; β = 0.9
-    /// makes the scale renormalize about every 210 updates.
+    /// makes the scale renormalize about every 210 updates. The reference is the general path of the same estimator, which the property
+    /// tests check against the batch solution (CovarianceFormPropertyTests, InformationFormPropertyTests: MATH.md §2 and §5 against
+    /// BatchRidge, itself checked against the NIST StRD certified values); here only the agreement of the two paths is tested.
     /// </summary>
     public class FourColumnPathTests
     {
