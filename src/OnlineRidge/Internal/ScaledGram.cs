@@ -1,6 +1,7 @@
 using System;
 using System.Runtime.CompilerServices;
 #if NET
+using System.Runtime.InteropServices;
 using System.Runtime.Intrinsics;
 #endif
 
@@ -176,7 +177,7 @@ namespace OnlineRidge.Internal
                 return false;
             }
 
-            ref double a = ref storage[start];
+            ref double a = ref Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(storage), start);
             double cl = c * last;
             Unsafe.Add(ref a, 20) += cl * last;
             GramUpdateKernels.AddRankOneFour(ref a, c, cl, head);

@@ -62,6 +62,10 @@ namespace OnlineRidge
     /// <para><b>Threads and reproducibility.</b> Not thread-safe (one writer; readers must synchronize). The same inputs on the same runtime and
     /// hardware give the same bits; the last bits may differ between the net10.0 (vectorized) and netstandard2.0 builds.</para>
     /// </remarks>
+#if NET
+    // Update is inlined into the caller's loop with its struct locals (breakdown reports); without this the JIT zeroes them every update.
+    [SkipLocalsInit]
+#endif
     public sealed class CovarianceFormEstimator : IRecursiveEstimator
     {
         private readonly int p;

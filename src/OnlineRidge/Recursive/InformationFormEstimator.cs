@@ -56,6 +56,10 @@ namespace OnlineRidge
     /// <para><b>Threads and reproducibility.</b> Not thread-safe, also not for concurrent reads (reads may fill the cache). Same inputs, runtime and
     /// hardware give the same bits; the last bits may differ between the net10.0 and netstandard2.0 builds.</para>
     /// </remarks>
+#if NET
+    // Update is inlined into the caller's loop with its struct locals (breakdown reports); without this the JIT zeroes them every update.
+    [SkipLocalsInit]
+#endif
     public sealed class InformationFormEstimator : IRecursiveEstimator
     {
         private const double ConstantLevel = 1e3 * 2.220446049250313e-16;
@@ -354,14 +358,15 @@ namespace OnlineRidge
         /// <summary>
         /// The short path below for p = 4 (x of length 4, checked by the caller) with x in one register: the same sum of squares (the lanes
         /// of x∘x added as Vector.Sum adds them) and the same step, so the same bits. True when it took the step; false when the sample is
-        /// not the common case, and then nothing changed.
+        /// not the common case, and then nothing changed. The short path's test that ‖x‖² + y² is finite is not repeated here: a NaN or ∞
+        /// there makes the new trace NaN or ∞, which <see cref="ScaledGram.TryAddFour"/> refuses, so the decisions are the same.
         /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private bool TryFourColumnStep(ReadOnlySpan<double> x, double y, double weight)
         {
             Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
             double fourNorm = Vector256.Sum(xv * xv) + (y * y);
-            if (fourNorm <= double.MaxValue && weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
+            if (weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
             {
                 CountCommonStep(weight);
                 return true;

@@ -55,6 +55,10 @@ namespace OnlineRidge
     /// the same inputs on the same runtime and hardware give the same bits; the net10.0 build uses SIMD kernels whose last bits may differ
     /// from the portable build.</para>
     /// </remarks>
+#if NET
+    // Update is inlined into the caller's loop with its struct locals (breakdown reports); without this the JIT zeroes them every update.
+    [SkipLocalsInit]
+#endif
     public sealed class SquareRootEstimator : IRecursiveEstimator
     {
         private const double Eps = 2.220446049250313e-16;
