@@ -163,7 +163,7 @@ namespace OnlineRidge.Internal
                 : Vector256.Create(x[0], p > 1 ? x[1] : 0.0, p > 2 ? x[2] : 0.0, 0.0);
             Vector256<double> uv = MultiplyFour(r0, r1, r2, r3, xv);
             uv.StoreUnsafe(ref MemoryMarshal.GetReference(u.Slice(0, 4)));
-            return Vector256.Sum(xv * uv);
+            return GramUpdateKernels.SumOfLanes(xv * uv);
 #else
             throw new PlatformNotSupportedException();
 #endif
@@ -193,7 +193,7 @@ namespace OnlineRidge.Internal
         /// <summary><see cref="Dot"/> of two vectors of length 4 held in registers: the same operations (one FMA into zero, the second accumulator added, the lanes summed), so the same bits.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         internal static double DotFour(Vector256<double> a, Vector256<double> b) =>
-            Vector256.Sum(Fma.MultiplyAdd(a, b, Vector256<double>.Zero) + Vector256<double>.Zero);
+            GramUpdateKernels.SumOfLanes(Fma.MultiplyAdd(a, b, Vector256<double>.Zero) + Vector256<double>.Zero);
 
         /// <summary>The largest lane of v with the plain max instruction: exact for lanes that are not NaN (callers test NaN apart).</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -319,7 +319,7 @@ namespace OnlineRidge.Internal
                 theta2.StoreUnsafe(ref MemoryMarshal.GetReference(thetaNext.Slice(0, 4)));
                 Vector256<double> big = Vector256.Max(Vector256<double>.Zero, vj * vj);
                 double largest = Math.Max(Math.Max(big.GetElement(0), big.GetElement(1)), Math.Max(big.GetElement(2), big.GetElement(3)));
-                double probe = Vector256.Sum(Vector256<double>.Zero + ((vj - vj) + (theta2 - theta2)));
+                double probe = GramUpdateKernels.SumOfLanes(Vector256<double>.Zero + ((vj - vj) + (theta2 - theta2)));
                 return probe == 0.0 ? largest : double.NaN;
             }
 #endif
@@ -441,7 +441,7 @@ namespace OnlineRidge.Internal
                     i += 4;
                 }
 
-                sum = Vector256.Sum(s0 + s1);
+                sum = GramUpdateKernels.SumOfLanes(s0 + s1);
                 for (; i < n; i++)
                 {
                     sum = Math.FusedMultiplyAdd(Unsafe.Add(ref ar, i), Unsafe.Add(ref br, i), sum);
@@ -637,7 +637,7 @@ namespace OnlineRidge.Internal
                 q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref Unsafe.Add(ref x, c)), u0, q);
             }
 
-            return Vector256.Sum(q);
+            return GramUpdateKernels.SumOfLanes(q);
         }
 
 #if NET
@@ -816,7 +816,7 @@ namespace OnlineRidge.Internal
                 q = Fma.MultiplyAdd(Vector256.LoadUnsafe(ref Unsafe.Add(ref x, c)), u0, q);
             }
 
-            return Vector256.Sum(q);
+            return GramUpdateKernels.SumOfLanes(q);
         }
 
         /// <summary>

@@ -126,7 +126,7 @@ namespace OnlineRidge.Internal
                     acc += v - v;
                 }
 
-                probe = System.Runtime.Intrinsics.Vector256.Sum(acc);
+                probe = GramUpdateKernels.SumOfLanes(acc);
             }
 #endif
             for (; i < n; i++)

@@ -61,7 +61,7 @@ namespace OnlineRidge.Internal
                     vy[k] += va * rk;
                 }
 
-                s = Vector.Sum(acc);
+                s = GramUpdateKernels.SumOfLanes(acc);
                 j = vr.Length * Vector<double>.Count;
             }
 #endif
@@ -134,7 +134,7 @@ namespace OnlineRidge.Internal
                     acc += Vector<double>.Zero * value;
                 }
 
-                probe = Vector.Sum(acc);
+                probe = GramUpdateKernels.SumOfLanes(acc);
                 j = vx.Length * Vector<double>.Count;
             }
 #endif
@@ -170,7 +170,7 @@ namespace OnlineRidge.Internal
                     acc += Vector<double>.Zero * value;
                 }
 
-                probe = Vector.Sum(acc);
+                probe = GramUpdateKernels.SumOfLanes(acc);
                 j = vx.Length * Vector<double>.Count;
             }
 #endif

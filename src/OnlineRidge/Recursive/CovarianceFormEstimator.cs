@@ -447,7 +447,7 @@ namespace OnlineRidge
 
             Vector256<double> uv = CovarianceKernels.MultiplyFour(r0, r1, r2, r3, xv);
             double sigma = covarianceScale;
-            double s = sigma * Vector256.Sum(xv * uv);
+            double s = sigma * GramUpdateKernels.SumOfLanes(xv * uv);
             double d = beta + (weight * s);
             double g = weight / d;
             double coefficient = g * sigma;

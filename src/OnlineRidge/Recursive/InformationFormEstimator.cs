@@ -88,7 +88,9 @@ namespace OnlineRidge
         // statistic is held as s·G̃ (ScaledGram): its overflow guard's trace is kept there, in true units.
         private readonly StreamingMoments? moments;
         private readonly ScaledGram? gram;
-        private double weightSum;
+
+        // W = Σ βⁿ⁻ⁱwᵢ (no intercept) and the discounted count N side by side, so that the short paths update both with one vector step.
+        private ForgottenSums sums;
 
         // Optional squared-forgetting Gram G₂ (MATH.md §6.2) of the regressor as the model sees it: (1, x) with an intercept, x without.
         private readonly ScaledGram? squaredGram;
@@ -241,10 +243,10 @@ namespace OnlineRidge
         public PenaltyRegime Regime => regime;
 
         /// <summary>Total effective weight W = Σ βⁿ⁻ⁱwᵢ. O(1).</summary>
-        public double WeightSum => intercept ? moments!.WeightSum : weightSum;
+        public double WeightSum => intercept ? moments!.WeightSum : sums.Weight;
 
         /// <summary>Discounted count N = Σ βⁿ⁻ⁱ over the updates of positive weight (as <see cref="RidgeFit.DiscountedCount"/>; MATH.md §5.1, §9). O(1).</summary>
-        public double DiscountedCount { get; private set; }
+        public double DiscountedCount { get => sums.Count; private set => sums.Count = value; }
 
         /// <summary>Whether the squared-forgetting Gram G₂ is accumulated.</summary>
         public bool TracksSquaredForgettingGram => squaredGram is not null;
@@ -365,7 +367,7 @@ namespace OnlineRidge
         private bool TryFourColumnStep(ReadOnlySpan<double> x, double y, double weight)
         {
             Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
-            double fourNorm = Vector256.Sum(xv * xv) + (y * y);
+            double fourNorm = GramUpdateKernels.SumOfLanes(xv * xv) + (y * y);
             if (weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
             {
                 CountCommonStep(weight);
@@ -380,8 +382,20 @@ namespace OnlineRidge
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private void CountCommonStep(double weight)
         {
-            weightSum = (beta * weightSum) + weight;
-            DiscountedCount = (beta * DiscountedCount) + 1.0;
+#if NET
+            if (Vector128.IsHardwareAccelerated)
+            {
+                // (W, N) ← β·(W, N) + (w, 1): the same two multiplies and adds, lane by lane, as the scalar lines below.
+                ref Vector128<double> pair = ref Unsafe.As<ForgottenSums, Vector128<double>>(ref sums);
+                pair = (Vector128.Create(beta) * pair) + Vector128.Create(weight, 1.0);
+            }
+            else
+#endif
+            {
+                sums.Weight = (beta * sums.Weight) + weight;
+                DiscountedCount = (beta * DiscountedCount) + 1.0;
+            }
+
             SampleCount++;
             solutionValid = false;
         }
@@ -447,7 +461,7 @@ namespace OnlineRidge
                 }
 
                 gram.Add(weight, head, y, newTrace);
-                weightSum = (beta * weightSum) + weight;
+                sums.Weight = (beta * sums.Weight) + weight;
             }
 
             if (squaredGram is not null)
@@ -822,7 +836,7 @@ namespace OnlineRidge
                 }
 
                 gram.MergeFrom(age, later.gram, 0.0, default, newTrace);
-                weightSum = (age * weightSum) + later.weightSum;
+                sums.Weight = (age * sums.Weight) + later.sums.Weight;
             }
 
             if (squaredGram is not null)
@@ -882,7 +896,7 @@ namespace OnlineRidge
             }
             else
             {
-                record.Add("weightSum", weightSum).Add("gramTrace", gram!.Trace).Add("gram", gram.PackedStored()).Add("gramScale", gram.Scale);
+                record.Add("weightSum", sums.Weight).Add("gramTrace", gram!.Trace).Add("gram", gram.PackedStored()).Add("gramScale", gram.Scale);
             }
 
             if (squaredGram is not null)
@@ -938,7 +952,7 @@ namespace OnlineRidge
             }
             else
             {
-                est.weightSum = SnapshotSupport.NonNegative(r, "weightSum");
+                est.sums.Weight = SnapshotSupport.NonNegative(r, "weightSum");
                 RestorePacked(r, "gram", "gramTrace", "gramScale", est.gram!);
             }
 
@@ -1119,6 +1133,17 @@ namespace OnlineRidge
             b0 = b;
             breakdown = BreakdownInfo.None;
             return true;
+        }
+
+        /// <summary>W and N adjacent in memory (one 16-byte load and store in <see cref="CountCommonStep"/>).</summary>
+        [System.Runtime.InteropServices.StructLayout(System.Runtime.InteropServices.LayoutKind.Sequential)]
+        private struct ForgottenSums
+        {
+            /// <summary>W = Σ βⁿ⁻ⁱwᵢ (no intercept; with one the streaming moments keep it).</summary>
+            public double Weight;
+
+            /// <summary>N = Σ βⁿ⁻ⁱ over the updates of positive weight.</summary>
+            public double Count;
         }
     }
 }

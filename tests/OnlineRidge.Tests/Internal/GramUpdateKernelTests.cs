@@ -201,6 +201,48 @@ namespace OnlineRidge.Tests.Internal
             }
         }
 
+#if !LIBRARY_NETSTANDARD
+        /// <summary>
+        /// The four-lane sum every kernel reduces with adds in the fixed order ((v₀ + v₁) + (v₂ + v₃)), written out here in scalars, bit for
+        /// bit; lanes of mixed sign and magnitude make the other orders round differently (checked, so the test can tell them apart), and
+        /// NaN and ∞ lanes propagate.
+        /// </summary>
+        [Fact]
+        public void Lane_sum_adds_in_pairs_bit_for_bit()
+        {
+            var random = new Random(4242);
+            int separatedFromSequential = 0;
+            int separatedFromCrossed = 0;
+            for (int k = 0; k < 2000; k++)
+            {
+                double[] v = Enumerable.Range(0, 4).Select(_ => ((random.NextDouble() * 2.0) - 1.0) * Math.Pow(2.0, random.Next(-30, 31))).ToArray();
+                double expected = (v[0] + v[1]) + (v[2] + v[3]);
+                double actual = GramUpdateKernels.SumOfLanes(System.Runtime.Intrinsics.Vector256.Create(v[0], v[1], v[2], v[3]));
+                Assert.Equal(BitConverter.DoubleToInt64Bits(expected), BitConverter.DoubleToInt64Bits(actual));
+                if (BitConverter.DoubleToInt64Bits(expected) != BitConverter.DoubleToInt64Bits(((v[0] + v[1]) + v[2]) + v[3]))
+                {
+                    separatedFromSequential++;
+                }
+
+                if (BitConverter.DoubleToInt64Bits(expected) != BitConverter.DoubleToInt64Bits((v[0] + v[2]) + (v[1] + v[3])))
+                {
+                    separatedFromCrossed++;
+                }
+
+                if (System.Numerics.Vector<double>.Count == 4)
+                {
+                    double viaVector = GramUpdateKernels.SumOfLanes(new System.Numerics.Vector<double>(v));
+                    Assert.Equal(BitConverter.DoubleToInt64Bits(expected), BitConverter.DoubleToInt64Bits(viaVector));
+                }
+            }
+
+            Assert.True(separatedFromSequential > 100, $"only {separatedFromSequential} samples tell the pairwise from the sequential order");
+            Assert.True(separatedFromCrossed > 100, $"only {separatedFromCrossed} samples tell the pairwise from the crossed order");
+            Assert.True(double.IsNaN(GramUpdateKernels.SumOfLanes(System.Runtime.Intrinsics.Vector256.Create(1.0, double.NaN, 2.0, 3.0))));
+            Assert.Equal(double.PositiveInfinity, GramUpdateKernels.SumOfLanes(System.Runtime.Intrinsics.Vector256.Create(1.0, 2.0, double.PositiveInfinity, 3.0)));
+        }
+#endif
+
         [Theory]
         [InlineData(0)]
         [InlineData(-1)]

@@ -174,6 +174,38 @@ namespace OnlineRidge.Tests.Recursive
         }
 
         /// <summary>A zero-weight update only forgets: the parameters of a constant-penalty fit do not move (G and b scale alike).</summary>
+        /// <summary>
+        /// The weight sum W and the discounted count N are the recursions W ← β·W + w and N ← β·N + [w &gt; 0] of MATH.md §5.1 and §9, written
+        /// out here as plain scalar lines: every path that updates them (the p = 4 register step, the short path, the general path with zero
+        /// weights) must give exactly these bits, over a stream with weights of every size and every seventh weight 0.
+        /// </summary>
+        [Theory]
+        [InlineData(1, false)]
+        [InlineData(4, false)]
+        [InlineData(5, false)]
+        [InlineData(16, false)]
+        [InlineData(4, true)]
+        public void Weight_sum_and_discounted_count_follow_their_recursions_bit_for_bit(int p, bool intercept)
+        {
+            const double beta = 0.93;
+            var random = new Random(8300 + p + (intercept ? 50 : 0));
+            var est = new InformationFormEstimator(p, new RidgeSettings { ForgettingFactor = beta, FitIntercept = intercept, Standardize = intercept });
+            double weightSum = 0.0;
+            double count = 0.0;
+            for (int n = 0; n < 2000; n++)
+            {
+                double w = n % 7 == 3 ? 0.0 : Math.Pow(2.0, random.Next(-20, 21)) * (0.5 + random.NextDouble());
+                est.Update(Sample(random, p), random.NextDouble(), w);
+                weightSum = (beta * weightSum) + w;
+                count = (beta * count) + (w > 0.0 ? 1.0 : 0.0);
+                Assert.True(BitConverter.DoubleToInt64Bits(count) == BitConverter.DoubleToInt64Bits(est.DiscountedCount), $"n={n}: N {est.DiscountedCount:R}, recursion {count:R}");
+                if (!intercept)
+                {
+                    Assert.True(BitConverter.DoubleToInt64Bits(weightSum) == BitConverter.DoubleToInt64Bits(est.WeightSum), $"n={n}: W {est.WeightSum:R}, recursion {weightSum:R}");
+                }
+            }
+        }
+
         [Fact]
         public void Zero_weight_updates_only_forget()
         {
