@@ -164,7 +164,9 @@ namespace OnlineRidge.Internal
         /// explicit forgetting): the same decisions — its check newTrace &lt; <see cref="OverflowLevel"/> is implied by newTrace &lt;
         /// s·<see cref="OverflowLevel"/> since s ≤ 1, so it is not repeated — and the same arithmetic: the corner as a multiply then an add, the
         /// rest through <see cref="GramUpdateKernels.AddRankOneFour"/>, the body the split entry takes; no span is formed and no length is
-        /// checked again. O(1) (25 entries), no allocation.
+        /// checked again. The caller keeps <paramref name="coefficient"/> in (0, double.MaxValue·<see cref="MinScale"/>], so that with
+        /// s ≥ <see cref="MinScale"/> the check c/s ≤ double.MaxValue of <see cref="TryAddCommon"/> always holds and is not made.
+        /// O(1) (25 entries), no allocation.
         /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         public bool TryAddFour(double coefficient, Vector256<double> head, double last, double norm2)
@@ -172,7 +174,7 @@ namespace OnlineRidge.Internal
             double newTrace = (beta * trace) + (coefficient * norm2);
             double next = beta * scale;
             double c = coefficient / next;
-            if (!(next >= MinScale) || !(newTrace < next * OverflowLevel) || !(c <= double.MaxValue))
+            if (!(next >= MinScale) || !(newTrace < next * OverflowLevel))
             {
                 return false;
             }

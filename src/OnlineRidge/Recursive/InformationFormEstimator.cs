@@ -109,7 +109,15 @@ namespace OnlineRidge
 
         /// <summary>The short path with p = 4 held in one register (ScaledGram.TryAddFour, vector build only).</summary>
         private readonly bool leanFourEligible;
-        private bool leanFour;
+
+        /// <summary>
+        /// double.MaxValue·2⁻³² (exact): with the scale s ≥ 2⁻³² (<see cref="ScaledGram.MinScale"/>) a weight up to this has w/s ≤ double.MaxValue,
+        /// so the p = 4 step need not test the coefficient for overflow; a constant weight (as in Update(x, y)) makes the test free.
+        /// </summary>
+        private const double FourColumnWeightLimit = double.MaxValue * ScaledGram.MinScale;
+
+        /// <summary>4 while the register path is on, else −1 (no span has that length): one comparison with x.Length both selects the path and checks the length.</summary>
+        private int fourColumnLength;
         private readonly double[]? model;
         private readonly int modelStart;
         private readonly double[] hessian;
@@ -127,8 +135,8 @@ namespace OnlineRidge
         /// </summary>
         internal bool FourColumnPathEnabled
         {
-            get => leanFour;
-            set => leanFour = value && leanFourEligible;
+            get => fourColumnLength == 4;
+            set => fourColumnLength = value && leanFourEligible ? 4 : -1;
         }
 
         /// <summary>Creates an empty estimator.</summary>
@@ -214,7 +222,7 @@ namespace OnlineRidge
 #else
             leanFourEligible = false;
 #endif
-            leanFour = leanFourEligible;
+            fourColumnLength = leanFourEligible ? 4 : -1;
             u = GramUpdateKernels.AllocateAligned(headStride, out uStart);
             hessian = new double[p * p];
             rhs = new double[p];
@@ -282,11 +290,11 @@ namespace OnlineRidge
         public void Update(ReadOnlySpan<double> x, double y, double weight)
         {
 #if NET
-            if (leanFour)
+            if (x.Length == fourColumnLength)
             {
                 // The common p = 4 step without going through TryUpdate's out-parameter (storing the success value cost close to a tenth
-                // of this step); anything else takes the checked path.
-                if (x.Length == 4 && TryFourColumnStep(x, y, weight))
+                // of this step); anything else takes the checked path. A wrong length goes on to TryUpdate's check below.
+                if (TryFourColumnStep(x, y, weight))
                 {
                     return;
                 }
@@ -326,9 +334,8 @@ namespace OnlineRidge
 #endif
         public bool TryUpdate(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
         {
-            Guard.Length(x.Length, p, nameof(x));
 #if NET
-            if (leanFour)
+            if (x.Length == fourColumnLength)
             {
                 if (TryFourColumnStep(x, y, weight))
                 {
@@ -339,6 +346,7 @@ namespace OnlineRidge
                 return TryUpdateGeneral(x, y, weight, out breakdown);
             }
 #endif
+            Guard.Length(x.Length, p, nameof(x));
             if (leanPath)
             {
                 // The common case in a few instructions (no intercept, no G₂, x read in place): a finite sample of positive finite weight whose
@@ -361,14 +369,15 @@ namespace OnlineRidge
         /// The short path below for p = 4 (x of length 4, checked by the caller) with x in one register: the same sum of squares (the lanes
         /// of x∘x added as Vector.Sum adds them) and the same step, so the same bits. True when it took the step; false when the sample is
         /// not the common case, and then nothing changed. The short path's test that ‖x‖² + y² is finite is not repeated here: a NaN or ∞
-        /// there makes the new trace NaN or ∞, which <see cref="ScaledGram.TryAddFour"/> refuses, so the decisions are the same.
+        /// there makes the new trace NaN or ∞, which <see cref="ScaledGram.TryAddFour"/> refuses, so the decisions are the same. Weights above
+        /// <see cref="FourColumnWeightLimit"/> (≈ 4·10²⁹⁸) go to the general path, which gives the same result.
         /// </summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
         private bool TryFourColumnStep(ReadOnlySpan<double> x, double y, double weight)
         {
             Vector256<double> xv = Vector256.LoadUnsafe(ref MemoryMarshal.GetReference(x));
             double fourNorm = GramUpdateKernels.SumOfLanes(xv * xv) + (y * y);
-            if (weight > 0.0 && weight <= double.MaxValue && gram!.TryAddFour(weight, xv, y, fourNorm))
+            if (weight > 0.0 && weight <= FourColumnWeightLimit && gram!.TryAddFour(weight, xv, y, fourNorm))
             {
                 CountCommonStep(weight);
                 return true;

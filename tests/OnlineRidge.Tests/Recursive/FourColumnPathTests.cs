@@ -231,6 +231,34 @@ namespace OnlineRidge.Tests.Recursive
             Assert.InRange(firstRefusal, 6000, 8000);
         }
 
+        /// <summary>
+        /// With the register path on, the length check rides on the comparison that selects the path: a regressor of length 3 or 5 must still
+        /// be refused with the parameter name "x", through Update and TryUpdate, and change nothing (the snapshot bytes stay the same).
+        /// </summary>
+        [Fact]
+        public void Information_form_register_path_still_refuses_a_wrong_length()
+        {
+            var est = new InformationFormEstimator(P, new RidgeSettings { ForgettingFactor = 0.9, FitIntercept = false, Standardize = false });
+            Assert.Equal(BuildInfo.HasIntrinsicKernels, est.FourColumnPathEnabled);
+            var random = new Random(9480);
+            for (int n = 0; n < 20; n++)
+            {
+                est.Update(Sample(random, 1).X, 0.5);
+            }
+
+            byte[] before = Snapshot(s => est.WriteSnapshot(s));
+            foreach (int length in new[] { 0, 3, 5, 8 })
+            {
+                var x = new double[length];
+                Assert.Equal("x", Assert.ThrowsAny<ArgumentException>(() => est.Update(x, 1.0)).ParamName);
+                Assert.Equal("x", Assert.ThrowsAny<ArgumentException>(() => est.Update(x, 1.0, 2.0)).ParamName);
+                Assert.Equal("x", Assert.ThrowsAny<ArgumentException>(() => est.TryUpdate(x, 1.0, 2.0, out _)).ParamName);
+            }
+
+            Assert.Equal(before, Snapshot(s => est.WriteSnapshot(s)));
+            Assert.Equal(20, est.SampleCount);
+        }
+
         /// <summary>Information form without intercept or G₂: the register path against the general path.</summary>
         [Theory]
         [InlineData(0.9, InvalidSamplePolicy.Throw)]
