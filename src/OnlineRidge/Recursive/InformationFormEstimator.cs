@@ -293,27 +293,28 @@ namespace OnlineRidge
             if (x.Length == fourColumnLength)
             {
                 // The common p = 4 step without going through TryUpdate's out-parameter (storing the success value cost close to a tenth
-                // of this step); anything else takes the checked path. A wrong length goes on to TryUpdate's check below.
+                // of this step); a sample it declines (nothing changed) goes straight to the general path. A wrong length goes on to the
+                // length check below.
                 if (TryFourColumnStep(x, y, weight))
                 {
                     return;
                 }
 
-                UpdateChecked(x, y, weight);
+                UpdateGeneral(x, y, weight);
                 return;
             }
 #endif
-            if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
+            if (!TryUpdateWithoutRegisterPath(x, y, weight, out BreakdownInfo breakdown))
             {
                 Guard.ThrowBreakdown(breakdown);
             }
         }
 
-        /// <summary><see cref="Update(ReadOnlySpan{double}, double, double)"/> through <see cref="TryUpdate"/>, throwing its breakdown.</summary>
+        /// <summary><see cref="TryUpdateGeneral"/>, throwing its breakdown: the p = 4 register step's hand-over in <see cref="Update(ReadOnlySpan{double}, double, double)"/>.</summary>
         [MethodImpl(MethodImplOptions.NoInlining)]
-        private void UpdateChecked(ReadOnlySpan<double> x, double y, double weight)
+        private void UpdateGeneral(ReadOnlySpan<double> x, double y, double weight)
         {
-            if (!TryUpdate(x, y, weight, out BreakdownInfo breakdown))
+            if (!TryUpdateGeneral(x, y, weight, out BreakdownInfo breakdown))
             {
                 Guard.ThrowBreakdown(breakdown);
             }
@@ -346,6 +347,13 @@ namespace OnlineRidge
                 return TryUpdateGeneral(x, y, weight, out breakdown);
             }
 #endif
+            return TryUpdateWithoutRegisterPath(x, y, weight, out breakdown);
+        }
+
+        /// <summary><see cref="TryUpdate"/> once the p = 4 register path is ruled out (it is off, or x has another length): the length check, the short path, the general path.</summary>
+        [MethodImpl(MethodImplOptions.AggressiveInlining)]
+        private bool TryUpdateWithoutRegisterPath(ReadOnlySpan<double> x, double y, double weight, out BreakdownInfo breakdown)
+        {
             Guard.Length(x.Length, p, nameof(x));
             if (leanPath)
             {
@@ -366,8 +374,9 @@ namespace OnlineRidge
 
 #if NET
         /// <summary>
-        /// The short path below for p = 4 (x of length 4, checked by the caller) with x in one register: the same sum of squares (the lanes
-        /// of x∘x added as Vector.Sum adds them) and the same step, so the same bits. True when it took the step; false when the sample is
+        /// The short path of <see cref="TryUpdateWithoutRegisterPath"/> for p = 4 (x of length 4, checked by the caller) with x in one register:
+        /// the same sum of squares (<see cref="GramUpdateKernels.SumOfLanes(Vector256{double})"/>, the reduction of
+        /// <see cref="GramUpdateKernels.SquaredNorm"/>) and the same step, so the same bits. True when it took the step; false when the sample is
         /// not the common case, and then nothing changed. The short path's test that ‖x‖² + y² is finite is not repeated here: a NaN or ∞
         /// there makes the new trace NaN or ∞, which <see cref="ScaledGram.TryAddFour"/> refuses, so the decisions are the same. Weights above
         /// <see cref="FourColumnWeightLimit"/> (≈ 4·10²⁹⁸) go to the general path, which gives the same result.
